@@ -1,0 +1,192 @@
+package kinetics
+
+import (
+	"fmt"
+	"image/color"
+)
+
+// Role groups phases by what they do in the paste.
+type Role uint8
+
+const (
+	RolePore    Role = iota // water-filled or empty capillary pore space
+	RoleClinker             // reactive clinker phase inside cement grains
+	RoleSulfate             // sulfate carrier, separate particles
+	RoleFiller              // non-reactive particles that offer surface
+	RoleHydrate             // reaction product
+)
+
+var roleNames = [...]string{"pore", "clinker", "sulfate", "filler", "hydrate"}
+
+func (r Role) String() string {
+	if int(r) < len(roleNames) {
+		return roleNames[r]
+	}
+	return fmt.Sprintf("Role(%d)", uint8(r))
+}
+
+// ID is a phase identifier stored in each voxel. The ranges are fixed:
+// pores 0–9, anhydrous phases 10–29, hydrates 30–59.
+type ID = uint8
+
+// Phase identifiers. They are part of the file contract (.vti, .npy,
+// phases.csv): never renumber an existing one.
+const (
+	Water       ID = 0  // water-filled capillary pore
+	Empty       ID = 1  // empty (self-desiccated) capillary pore
+	C3S         ID = 10 // alite
+	C2S         ID = 11 // belite
+	C3A         ID = 12 // aluminate
+	C4AF        ID = 13 // ferrite
+	Gypsum      ID = 14 // CaSO4·2H2O
+	Hemihydrate ID = 15 // CaSO4·0.5H2O
+	Anhydrite   ID = 16 // CaSO4
+	Calcite     ID = 17 // limestone filler, CaCO3
+	Inert       ID = 18 // inert filler (quartz-like)
+	CSHInner    ID = 30 // C-S-H formed inside an original grain outline
+	CSHOuter    ID = 31 // C-S-H formed in the original water space
+	CH          ID = 32 // portlandite
+	AFt         ID = 33 // ettringite
+	AFm         ID = 34 // monosulfate
+	Hydrogarnet ID = 35 // C3AH6
+	FH3         ID = 36 // iron/aluminium hydroxide (F,A)H3
+)
+
+// NumIDs bounds every phase id: arrays indexed by ID have this length.
+const NumIDs = 64
+
+// Phase describes one phase. Densities and molar masses are from Taylor,
+// Cement Chemistry (1997) and Balonis & Glasser, Cem. Concr. Res. 39 (2009)
+// 733, as collected in REFERENCES.md (recalled, not re-read).
+type Phase struct {
+	ID   ID
+	Key  string // config and column key: "c3s", "csh_inner"
+	Name string // trade name in cement chemist notation: "C3S", "C-S-H"
+	Role Role
+
+	DensityGPerCM3   float64 // 0 for pores
+	MolarMassGPerMol float64 // 0 for pores
+
+	// BoundWaterMol is the moles of H2O per mole of the phase that remain
+	// after D-drying (non-evaporable water). Used for hydrates only.
+	BoundWaterMol float64
+
+	// MeanZ is the mass-weighted mean atomic number, which sets the grey
+	// level of the phase in a backscattered-electron-like image.
+	MeanZ float64
+
+	Colour color.RGBA // categorical colour for slice images
+}
+
+// MolarVolumeCM3 returns M/ρ in cm³/mol, or 0 for pores.
+func (p *Phase) MolarVolumeCM3() float64 {
+	if p.DensityGPerCM3 == 0 {
+		return 0
+	}
+	return p.MolarMassGPerMol / p.DensityGPerCM3
+}
+
+// IsPore, IsAnhydrous and IsHydrate classify a phase id by its range.
+func IsPore(id ID) bool      { return id < 10 }
+func IsAnhydrous(id ID) bool { return id >= 10 && id < 30 }
+func IsHydrate(id ID) bool   { return id >= 30 && id < 60 }
+func IsSolid(id ID) bool     { return id >= 10 && id < 60 }
+
+// WaterDensity is the density of pore water in g/cm³ at 20 °C.
+const WaterDensity = 0.998
+
+// WaterMolarMass is the molar mass of H2O in g/mol.
+const WaterMolarMass = 18.015
+
+// phases is the table. Colours are gelspace's own palette, in families:
+// clinker in warm earth tones, sulfates and fillers in pale neutrals and
+// violet, hydrates in blues and greens, pores dark. Neighbouring families
+// differ in lightness as well as hue so that colour-blind viewers can tell
+// them apart.
+var phases = []Phase{
+	{ID: Water, Key: "water", Name: "capillary water", Role: RolePore, MeanZ: 7.2,
+		Colour: color.RGBA{0x1b, 0x2a, 0x49, 0xff}},
+	{ID: Empty, Key: "empty", Name: "empty pore", Role: RolePore, MeanZ: 0,
+		Colour: color.RGBA{0x00, 0x00, 0x00, 0xff}},
+
+	// C3S 3CaO·SiO2; the MeanZ figures are computed from the formulas.
+	{ID: C3S, Key: "c3s", Name: "C3S", Role: RoleClinker, DensityGPerCM3: 3.15, MolarMassGPerMol: 228.32, MeanZ: 15.06,
+		Colour: color.RGBA{0xc0, 0x5a, 0x2b, 0xff}},
+	{ID: C2S, Key: "c2s", Name: "C2S", Role: RoleClinker, DensityGPerCM3: 3.28, MolarMassGPerMol: 172.24, MeanZ: 14.56,
+		Colour: color.RGBA{0xe8, 0xa6, 0x3a, 0xff}},
+	{ID: C3A, Key: "c3a", Name: "C3A", Role: RoleClinker, DensityGPerCM3: 3.03, MolarMassGPerMol: 270.19, MeanZ: 14.34,
+		Colour: color.RGBA{0x7a, 0x2e, 0x1f, 0xff}},
+	{ID: C4AF, Key: "c4af", Name: "C4AF", Role: RoleClinker, DensityGPerCM3: 3.73, MolarMassGPerMol: 485.96, MeanZ: 16.65,
+		Colour: color.RGBA{0x5c, 0x4a, 0x3d, 0xff}},
+	{ID: Gypsum, Key: "gypsum", Name: "gypsum", Role: RoleSulfate, DensityGPerCM3: 2.32, MolarMassGPerMol: 172.17, MeanZ: 12.12,
+		Colour: color.RGBA{0xf2, 0xee, 0xe3, 0xff}},
+	{ID: Hemihydrate, Key: "hemihydrate", Name: "hemihydrate", Role: RoleSulfate, DensityGPerCM3: 2.74, MolarMassGPerMol: 145.15, MeanZ: 13.20,
+		Colour: color.RGBA{0xd9, 0xd0, 0xc1, 0xff}},
+	{ID: Anhydrite, Key: "anhydrite", Name: "anhydrite", Role: RoleSulfate, DensityGPerCM3: 2.97, MolarMassGPerMol: 136.14, MeanZ: 13.42,
+		Colour: color.RGBA{0xb8, 0xae, 0xa0, 0xff}},
+	{ID: Calcite, Key: "calcite", Name: "limestone (CaCO3)", Role: RoleFiller, DensityGPerCM3: 2.71, MolarMassGPerMol: 100.09, MeanZ: 12.56,
+		Colour: color.RGBA{0x9e, 0x8c, 0xc9, 0xff}},
+	{ID: Inert, Key: "inert", Name: "inert filler", Role: RoleFiller, DensityGPerCM3: 2.65, MolarMassGPerMol: 60.08, MeanZ: 10.80,
+		Colour: color.RGBA{0x6a, 0x5a, 0x8e, 0xff}},
+
+	// C-S-H as C1.7SH4 (saturated, gel water included); D-dry C1.7SH1.4.
+	{ID: CSHInner, Key: "csh_inner", Name: "C-S-H (inner)", Role: RoleHydrate, DensityGPerCM3: 2.12, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 11.6,
+		Colour: color.RGBA{0x3f, 0x8f, 0x6b, 0xff}},
+	{ID: CSHOuter, Key: "csh_outer", Name: "C-S-H (outer)", Role: RoleHydrate, DensityGPerCM3: 2.12, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 11.6,
+		Colour: color.RGBA{0x8f, 0xc9, 0x9a, 0xff}},
+	{ID: CH, Key: "ch", Name: "CH", Role: RoleHydrate, DensityGPerCM3: 2.24, MolarMassGPerMol: 74.09, BoundWaterMol: 1, MeanZ: 14.3,
+		Colour: color.RGBA{0x3b, 0x7d, 0xd8, 0xff}},
+	// Ettringite keeps about 10 of its 32 H2O on D-drying (memory).
+	{ID: AFt, Key: "aft", Name: "AFt (ettringite)", Role: RoleHydrate, DensityGPerCM3: 1.78, MolarMassGPerMol: 1255.1, BoundWaterMol: 10, MeanZ: 10.8,
+		Colour: color.RGBA{0xd6, 0x4f, 0x9a, 0xff}},
+	{ID: AFm, Key: "afm", Name: "AFm (monosulfate)", Role: RoleHydrate, DensityGPerCM3: 2.01, MolarMassGPerMol: 622.5, BoundWaterMol: 8, MeanZ: 11.6,
+		Colour: color.RGBA{0xf0, 0x9c, 0xc8, 0xff}},
+	{ID: Hydrogarnet, Key: "hydrogarnet", Name: "hydrogarnet (C3AH6)", Role: RoleHydrate, DensityGPerCM3: 2.52, MolarMassGPerMol: 378.3, BoundWaterMol: 6, MeanZ: 12.4,
+		Colour: color.RGBA{0x2c, 0x5f, 0x5d, 0xff}},
+	// (F,A)H3 taken as Fe2O3·3H2O; density 3.0 g/cm³ is an assumed value.
+	{ID: FH3, Key: "fh3", Name: "FH3", Role: RoleHydrate, DensityGPerCM3: 3.0, MolarMassGPerMol: 213.7, BoundWaterMol: 3, MeanZ: 17.6,
+		Colour: color.RGBA{0x7f, 0x7f, 0x2a, 0xff}},
+}
+
+var byID [NumIDs]*Phase
+var byKey = map[string]*Phase{}
+
+func init() {
+	for i := range phases {
+		p := &phases[i]
+		if byID[p.ID] != nil {
+			panic(fmt.Sprintf("kinetics: duplicate phase id %d", p.ID))
+		}
+		byID[p.ID] = p
+		byKey[p.Key] = p
+	}
+}
+
+// Phases returns the phase table in id order. The slice is shared: do not
+// modify it.
+func Phases() []Phase { return phases }
+
+// Lookup returns the phase with the given id, or nil.
+func Lookup(id ID) *Phase {
+	if int(id) >= NumIDs {
+		return nil
+	}
+	return byID[id]
+}
+
+// ByKey returns the phase with the given key ("c3s"), or nil.
+func ByKey(key string) *Phase { return byKey[key] }
+
+// Keys returns the keys of the phases with the given roles, in id order.
+func Keys(roles ...Role) []string {
+	var out []string
+	for i := range phases {
+		for _, r := range roles {
+			if phases[i].Role == r {
+				out = append(out, phases[i].Key)
+				break
+			}
+		}
+	}
+	return out
+}
