@@ -267,8 +267,12 @@ func TestSitePercolationThreshold(t *testing.T) {
 		}
 		return float64(hits) / seeds
 	}
-	p25, p29, p33, p40 := prob(0.25), prob(0.29), prob(0.33), prob(0.40)
-	t.Logf("spanning probability along z, L=%d, %d seeds: p=0.25 %.3f, 0.29 %.3f, 0.33 %.3f, 0.40 %.3f", L, seeds, p25, p29, p33, p40)
+	p25, p29, pc, p33, p40 := prob(0.25), prob(0.29), prob(0.3116077), prob(0.33), prob(0.40)
+	t.Logf("spanning probability along z, L=%d, %d seeds: p=0.25 %.3f, 0.29 %.3f, p_c %.3f, 0.33 %.3f, 0.40 %.3f", L, seeds, p25, p29, pc, p33, p40)
+	// At p_c itself the probability is neither near 0 nor near 1.
+	if pc < 0.05 || pc > 0.95 {
+		t.Errorf("p=p_c: spanning probability %.3f, want within 0.05–0.95", pc)
+	}
 	if p25 > 0.05 {
 		t.Errorf("p=0.25: spanning probability %.3f, want ≤ 0.05", p25)
 	}

@@ -1,0 +1,583 @@
+package percolation
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+
+	"gelspace/kinetics"
+)
+
+// Solver defaults.
+const (
+	DefaultTol     = 1e-6  // relative residual at which conjugate gradients stop
+	DefaultMaxIter = 20000 // iteration cap per axis
+)
+
+// Bounds on a conducting voxel's relative diffusivity; 0 is always allowed.
+const (
+	MinDiffusivity = 1e-12
+	MaxDiffusivity = 1e12
+)
+
+// CSHRelDiffusivity is the relative diffusivity D/D0 of C-S-H (its gel
+// pores) against bulk pore water, 1/400, from Garboczi & Bentz, J. Mater.
+// Sci. 27 (1992) 2083.
+const CSHRelDiffusivity = 1.0 / 400
+
+// DefaultDiffusivities returns the default table of relative diffusivities
+// D/D0 by phase id: 1 for every pore id (0–9), CSHRelDiffusivity for inner
+// and outer C-S-H, and 0 (insulating) for every other phase.
+func DefaultDiffusivities() [kinetics.NumIDs]float64 {
+	var t [kinetics.NumIDs]float64
+	for id := range kinetics.NumIDs {
+		if kinetics.IsPore(kinetics.ID(id)) {
+			t[id] = 1
+		}
+	}
+	t[kinetics.CSHInner] = CSHRelDiffusivity
+	t[kinetics.CSHOuter] = CSHRelDiffusivity
+	return t
+}
+
+// DiffusivityOptions sets up a diffusivity solve. The zero value gives the
+// defaults.
+type DiffusivityOptions struct {
+	// Table holds D/D0 of each phase id, each 0 or within
+	// [MinDiffusivity, MaxDiffusivity]; nil means DefaultDiffusivities.
+	// DiffusivityField ignores it.
+	Table *[kinetics.NumIDs]float64
+
+	// Tol is the relative residual ‖b − Ax‖₂/‖b‖₂ at which the solve of
+	// one axis stops, within (0, 1); 0 means DefaultTol.
+	Tol float64
+
+	// MaxIter caps the iterations per axis, ≥ 0; 0 means DefaultMaxIter.
+	MaxIter int
+
+	// Workers is the number of goroutines, ≥ 0; 0 means GOMAXPROCS. The
+	// result does not depend on it, bit for bit.
+	Workers int
+}
+
+// Diffusion is the result of a diffusivity solve, per axis x, y, z.
+type Diffusion struct {
+	Rel       [3]float64 // D/D0, D0 the diffusivity of bulk pore water
+	Formation [3]float64 // formation factor D0/D = 1/Rel; +Inf where Rel is 0
+	Iter      [3]int     // conjugate-gradient iterations
+	Residual  [3]float64 // relative residual reached (0 when no solve was needed)
+	Conducts  [3]bool    // a conducting cluster spans the axis
+}
+
+// Diffusivity computes the relative diffusivity D/D0 of the voxel box along
+// each axis, from the phase of each voxel and the table in opt; see the
+// package doc for the discretisation and the boundary conditions. It panics
+// if len(phase) does not match the box and returns an error for bad options
+// or when an axis does not converge within opt.MaxIter, together with the
+// estimates reached.
+func Diffusivity(box Box, phase []uint8, opt DiffusivityOptions) (Diffusion, error) {
+	var s Solver
+	return s.Diffusivity(box, phase, opt)
+}
+
+// DiffusivityField is Diffusivity with the relative diffusivity of each
+// voxel given directly in d (same layout as the box), each value 0 or within
+// [MinDiffusivity, MaxDiffusivity].
+func DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, error) {
+	var s Solver
+	return s.DiffusivityField(box, d, opt)
+}
+
+// Solver holds the work arrays of the diffusivity solve so that repeated
+// solves (a time series) allocate nothing once sized. The zero value is
+// ready to use; a Solver is not safe for concurrent use.
+type Solver struct {
+	lab  Labeler
+	in   []bool
+	dbuf []float64
+	g    [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
+	invd []float32    // Jacobi preconditioner; 0 outside the active set
+	x    []float64
+	r    []float64
+	p    []float64
+	q    []float64
+	part [][2]float64 // per z plane partial sums, added in plane order
+
+	// set per solve
+	box     Box
+	d       []float64
+	workers int
+	elec    int // axis with electrodes (a non-periodic gradient axis), or −1
+}
+
+// Diffusivity is the package-level Diffusivity on s's buffers.
+func (s *Solver) Diffusivity(box Box, phase []uint8, opt DiffusivityOptions) (Diffusion, error) {
+	box.mustFit(len(phase), "phase")
+	table := DefaultDiffusivities()
+	if opt.Table != nil {
+		table = *opt.Table
+		for id, v := range table {
+			if !validDiffusivity(v) {
+				return Diffusion{}, fmt.Errorf("percolation: diffusivity %g of phase id %d is outside the allowed range: 0 or %g to %g", v, id, MinDiffusivity, MaxDiffusivity)
+			}
+		}
+	}
+	s.dbuf = grow(s.dbuf, len(phase))
+	for i, p := range phase {
+		if int(p) >= kinetics.NumIDs {
+			x, y, z := box.Coords(i)
+			return Diffusion{}, fmt.Errorf("percolation: phase id %d at voxel (%d, %d, %d) is outside the allowed range 0 to %d", p, x, y, z, kinetics.NumIDs-1)
+		}
+		s.dbuf[i] = table[p]
+	}
+	return s.solve(box, s.dbuf, opt)
+}
+
+// DiffusivityField is the package-level DiffusivityField on s's buffers.
+func (s *Solver) DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, error) {
+	box.mustFit(len(d), "diffusivity field")
+	for i, v := range d {
+		if !validDiffusivity(v) {
+			x, y, z := box.Coords(i)
+			return Diffusion{}, fmt.Errorf("percolation: diffusivity %g at voxel (%d, %d, %d) is outside the allowed range: 0 or %g to %g", v, x, y, z, MinDiffusivity, MaxDiffusivity)
+		}
+	}
+	return s.solve(box, d, opt)
+}
+
+func validDiffusivity(v float64) bool {
+	return v == 0 || (v >= MinDiffusivity && v <= MaxDiffusivity)
+}
+
+func grow[T any](b []T, n int) []T {
+	if cap(b) < n {
+		return make([]T, n)
+	}
+	return b[:n]
+}
+
+func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion, error) {
+	tol, maxIter, workers := opt.Tol, opt.MaxIter, opt.Workers
+	if tol == 0 {
+		tol = DefaultTol
+	}
+	if !(tol > 0 && tol < 1) {
+		return Diffusion{}, fmt.Errorf("percolation: tolerance %g is outside the allowed range (0, 1)", opt.Tol)
+	}
+	if maxIter == 0 {
+		maxIter = DefaultMaxIter
+	}
+	if maxIter < 0 {
+		return Diffusion{}, fmt.Errorf("percolation: MaxIter %d is outside the allowed range ≥ 0", opt.MaxIter)
+	}
+	if workers < 0 {
+		return Diffusion{}, fmt.Errorf("percolation: Workers %d is outside the allowed range ≥ 0", opt.Workers)
+	}
+	if workers == 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	s.box, s.d, s.workers = box, d, min(workers, box.NZ)
+	n := box.Len()
+
+	// Conducting clusters: voxels with d > 0, joined where both are > 0,
+	// which is where the harmonic-mean conductance is > 0.
+	s.in = grow(s.in, n)
+	for i, v := range d {
+		s.in[i] = v > 0
+	}
+	cl := s.lab.Label(box, s.in)
+	s.conductances()
+	s.invd = grow(s.invd, n)
+	s.x = grow(s.x, n)
+	s.r = grow(s.r, n)
+	s.p = grow(s.p, n)
+	s.q = grow(s.q, n)
+	s.part = grow(s.part, box.NZ)
+
+	var res Diffusion
+	var err error
+	for a := range 3 {
+		active := false
+		for _, sp := range cl.Spans {
+			active = active || sp[a]
+		}
+		res.Conducts[a] = active
+		if active {
+			var e error
+			res.Rel[a], res.Iter[a], res.Residual[a], e = s.axis(a, cl, tol, maxIter)
+			if e != nil && err == nil {
+				err = e
+			}
+		}
+		res.Formation[a] = math.Inf(1)
+		if res.Rel[a] > 0 {
+			res.Formation[a] = 1 / res.Rel[a]
+		}
+	}
+	return res, err
+}
+
+// conductances fills g with the harmonic means of face-neighbour
+// diffusivities; a bond across an open face has conductance 0.
+func (s *Solver) conductances() {
+	box, d := s.box, s.d
+	n := box.Len()
+	nx, ny, nz := box.NX, box.NY, box.NZ
+	for k := range 3 {
+		s.g[k] = grow(s.g[k], n)
+	}
+	gx, gy, gz := s.g[0], s.g[1], s.g[2]
+	plane := nx * ny
+	for z := range nz {
+		zp := z + 1
+		openZ := false
+		if zp == nz {
+			zp, openZ = 0, !box.Periodic[2]
+		}
+		for y := range ny {
+			yp := y + 1
+			openY := false
+			if yp == ny {
+				yp, openY = 0, !box.Periodic[1]
+			}
+			row := nx * (y + ny*z)
+			rowY := nx*yp + plane*z
+			rowZ := nx*y + plane*zp
+			for x := range nx {
+				i := row + x
+				xp := x + 1
+				openX := false
+				if xp == nx {
+					xp, openX = 0, !box.Periodic[0]
+				}
+				gx[i] = hm(d[i], d[row+xp], openX)
+				gy[i] = hm(d[i], d[rowY+x], openY)
+				gz[i] = hm(d[i], d[rowZ+x], openZ)
+			}
+		}
+	}
+}
+
+// hm is the harmonic mean 2ab/(a+b) of two diffusivities, the conductance of
+// two half voxels in series; 0 when either is 0 or the bond is open.
+func hm(a, b float64, open bool) float32 {
+	if open || a == 0 || b == 0 {
+		return 0
+	}
+	return float32(2 * a * b / (a + b))
+}
+
+// parallel runs f over contiguous ranges of z planes, one per worker, and
+// waits for all.
+func (s *Solver) parallel(f func(z0, z1 int)) {
+	nz, w := s.box.NZ, s.workers
+	if w <= 1 {
+		f(0, nz)
+		return
+	}
+	var wg sync.WaitGroup
+	for k := 1; k < w; k++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			f(k*nz/w, (k+1)*nz/w)
+		}()
+	}
+	f(0, nz/w)
+	wg.Wait()
+}
+
+// sums adds the per-plane partial sums in plane order, so that the result
+// does not depend on the number of workers.
+func (s *Solver) sums() (a, b float64) {
+	for _, p := range s.part {
+		a += p[0]
+		b += p[1]
+	}
+	return a, b
+}
+
+// axis solves for the fluctuation w with a unit gradient along axis a and
+// returns D/D0, the iterations and the relative residual reached.
+func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, int, float64, error) {
+	s.elec = -1
+	if !s.box.Periodic[a] {
+		s.elec = a
+	}
+	s.parallel(func(z0, z1 int) { s.setup(a, cl, z0, z1) })
+	rho, bb := s.sums()
+	var iter int
+	var rel float64
+	var err error
+	if bb > 0 {
+		bnorm := math.Sqrt(bb)
+		for {
+			if iter >= maxIter {
+				err = fmt.Errorf("percolation: diffusivity along %s: relative residual %.3g after %d iterations, above the tolerance %g (raise MaxIter)", axisNames[a], rel, iter, tol)
+				break
+			}
+			s.parallel(s.matvec)
+			pq, _ := s.sums()
+			iter++
+			if !(pq > 0) {
+				break // p is 0 on the active set: nothing left to solve
+			}
+			alpha := rho / pq
+			s.parallel(func(z0, z1 int) { s.update(alpha, z0, z1) })
+			rz, rr := s.sums()
+			rel = math.Sqrt(rr) / bnorm
+			if rel <= tol {
+				break
+			}
+			beta := rz / rho
+			rho = rz
+			s.parallel(func(z0, z1 int) { s.direction(beta, z0, z1) })
+		}
+	}
+	s.parallel(func(z0, z1 int) { s.energy(a, z0, z1) })
+	e, _ := s.sums()
+	return e / float64(s.box.Len()), iter, rel, err
+}
+
+// rowOffsets returns the offsets of the rows at y−1, y+1 (same plane) and
+// at z−1, z+1 (same y), wrapping; bonds across open faces have g = 0, so
+// wrapping there is harmless.
+func (s *Solver) rowOffsets(y, z int) (row, ym, yp, zm, zp int) {
+	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
+	plane := nx * ny
+	row = nx * (y + ny*z)
+	y0, y1 := y-1, y+1
+	if y0 < 0 {
+		y0 = ny - 1
+	}
+	if y1 == ny {
+		y1 = 0
+	}
+	z0, z1 := z-1, z+1
+	if z0 < 0 {
+		z0 = nz - 1
+	}
+	if z1 == nz {
+		z1 = 0
+	}
+	return row, nx*y0 + plane*z, nx*y1 + plane*z, nx*y + plane*z0, nx*y + plane*z1
+}
+
+// electrode returns the conductance 2d of the half voxel between voxel
+// (x, y, z) and an electrode, times the number of electrodes it touches
+// (0, 1, or 2 on an axis of length 1), and the electrode's source term
+// d·(low − high).
+func (s *Solver) electrode(i int, c [3]int) (g, src float64) {
+	a := s.elec
+	if a < 0 {
+		return 0, 0
+	}
+	n := s.box.dims()[a]
+	di := s.d[i]
+	if c[a] == 0 {
+		g += 2 * di
+		src += di
+	}
+	if c[a] == n-1 {
+		g += 2 * di
+		src -= di
+	}
+	return g, src
+}
+
+// onFace reports whether row (y, z) may hold electrode voxels.
+func (s *Solver) onFace(y, z int) bool {
+	switch s.elec {
+	case 0:
+		return true
+	case 1:
+		return y == 0 || y == s.box.NY-1
+	case 2:
+		return z == 0 || z == s.box.NZ-1
+	}
+	return false
+}
+
+// setup fills the preconditioner, the right-hand side r = b, p = M⁻¹r and
+// x = 0 for the planes [z0, z1), with part = (r·M⁻¹r, r·r) per plane.
+func (s *Solver) setup(a int, cl *Clusters, z0, z1 int) {
+	nx, ny := s.box.NX, s.box.NY
+	gx, gy, gz := s.g[0], s.g[1], s.g[2]
+	ga := s.g[a]
+	for z := z0; z < z1; z++ {
+		var rz, rr float64
+		for y := range ny {
+			row, ym, _, zm, _ := s.rowOffsets(y, z)
+			back := [3]int{0, ym, zm} // row of the −a neighbours, for a = 1, 2
+			face := s.onFace(y, z)
+			for x := range nx {
+				i := row + x
+				xm := x - 1
+				if x == 0 {
+					xm = nx - 1
+				}
+				s.x[i] = 0
+				c := cl.Label[i]
+				if c < 0 || !cl.Spans[c][a] {
+					s.invd[i], s.r[i], s.p[i] = 0, 0, 0
+					continue
+				}
+				diag := float64(gx[i]) + float64(gx[row+xm]) + float64(gy[i]) + float64(gy[ym+x]) + float64(gz[i]) + float64(gz[zm+x])
+				var gm float64
+				if a == 0 {
+					gm = float64(gx[row+xm])
+				} else {
+					gm = float64(ga[back[a]+x])
+				}
+				b := gm - float64(ga[i])
+				if face {
+					ge, src := s.electrode(i, [3]int{x, y, z})
+					diag += ge
+					b += src
+				}
+				var m float32
+				if diag > 0 {
+					m = float32(1 / diag)
+				}
+				s.invd[i] = m
+				s.r[i] = b
+				s.p[i] = float64(m) * b
+				rz += float64(m) * b * b
+				rr += b * b
+			}
+		}
+		s.part[z] = [2]float64{rz, rr}
+	}
+}
+
+// matvec computes q = A p on the planes [z0, z1), with part = (p·q, 0).
+// (A p)_i = Σ_j g_ij (p_i − p_j) over the six bonds, plus the electrode
+// conductance times p_i on the faces of an open gradient axis.
+func (s *Solver) matvec(z0, z1 int) {
+	nx, ny := s.box.NX, s.box.NY
+	gx, gy, gz := s.g[0], s.g[1], s.g[2]
+	p, q := s.p, s.q
+	for z := z0; z < z1; z++ {
+		var pq float64
+		for y := range ny {
+			row, ym, yp, zm, zp := s.rowOffsets(y, z)
+			pr := p[row : row+nx]
+			pym, pyp := p[ym:ym+nx], p[yp:yp+nx]
+			pzm, pzp := p[zm:zm+nx], p[zp:zp+nx]
+			gxr, gyr, gzr := gx[row:row+nx], gy[row:row+nx], gz[row:row+nx]
+			gym, gzm := gy[ym:ym+nx], gz[zm:zm+nx]
+			qr := q[row : row+nx]
+			for x := range pr {
+				xm, xp := x-1, x+1
+				if x == 0 {
+					xm = nx - 1
+				}
+				if xp == nx {
+					xp = 0
+				}
+				pi := pr[x]
+				v := float64(gxr[x])*(pi-pr[xp]) + float64(gxr[xm])*(pi-pr[xm]) +
+					float64(gyr[x])*(pi-pyp[x]) + float64(gym[x])*(pi-pym[x]) +
+					float64(gzr[x])*(pi-pzp[x]) + float64(gzm[x])*(pi-pzm[x])
+				qr[x] = v
+				pq += pi * v
+			}
+			if s.onFace(y, z) {
+				for x := range pr {
+					if pr[x] == 0 {
+						continue
+					}
+					ge, _ := s.electrode(row+x, [3]int{x, y, z})
+					qr[x] += ge * pr[x]
+					pq += ge * pr[x] * pr[x]
+				}
+			}
+		}
+		s.part[z] = [2]float64{pq, 0}
+	}
+}
+
+// update does x += αp, r −= αq on the planes [z0, z1), with
+// part = (r·M⁻¹r, r·r).
+func (s *Solver) update(alpha float64, z0, z1 int) {
+	plane := s.box.NX * s.box.NY
+	for z := z0; z < z1; z++ {
+		lo, hi := z*plane, (z+1)*plane
+		x, r, p, q, m := s.x[lo:hi], s.r[lo:hi], s.p[lo:hi], s.q[lo:hi], s.invd[lo:hi]
+		var rz, rr float64
+		for i := range x {
+			x[i] += alpha * p[i]
+			ri := r[i] - alpha*q[i]
+			r[i] = ri
+			rr += ri * ri
+			rz += float64(m[i]) * ri * ri
+		}
+		s.part[z] = [2]float64{rz, rr}
+	}
+}
+
+// direction does p = M⁻¹r + βp on the planes [z0, z1).
+func (s *Solver) direction(beta float64, z0, z1 int) {
+	plane := s.box.NX * s.box.NY
+	for z := z0; z < z1; z++ {
+		lo, hi := z*plane, (z+1)*plane
+		r, p, m := s.r[lo:hi], s.p[lo:hi], s.invd[lo:hi]
+		for i := range p {
+			p[i] = float64(m[i])*r[i] + beta*p[i]
+		}
+	}
+}
+
+// energy sums, on the planes [z0, z1), the dissipation Σ g (u_i − u_j)² of
+// u = w − x_a over the bonds from each active voxel to its +x, +y, +z
+// neighbours and the electrode links, with part = (sum, 0). Inactive
+// voxels (clusters that do not span axis a) carry no current.
+func (s *Solver) energy(a int, z0, z1 int) {
+	nx, ny := s.box.NX, s.box.NY
+	gx, gy, gz := s.g[0], s.g[1], s.g[2]
+	w := s.x
+	for z := z0; z < z1; z++ {
+		var e float64
+		for y := range ny {
+			row, _, yp, _, zp := s.rowOffsets(y, z)
+			face := s.onFace(y, z)
+			for x := range nx {
+				i := row + x
+				if s.invd[i] == 0 {
+					continue
+				}
+				xp := x + 1
+				if xp == nx {
+					xp = 0
+				}
+				var dx, dy, dz float64
+				switch a {
+				case 0:
+					dx = 1
+				case 1:
+					dy = 1
+				case 2:
+					dz = 1
+				}
+				wi := w[i]
+				ux := wi - w[row+xp] + dx
+				uy := wi - w[yp+x] + dy
+				uz := wi - w[zp+x] + dz
+				e += float64(gx[i])*ux*ux + float64(gy[i])*uy*uy + float64(gz[i])*uz*uz
+				if face {
+					c := [3]int{x, y, z}
+					n := s.box.dims()[a]
+					di := s.d[i]
+					if c[a] == 0 {
+						e += 2 * di * (0.5 - wi) * (0.5 - wi)
+					}
+					if c[a] == n-1 {
+						e += 2 * di * (wi + 0.5) * (wi + 0.5)
+					}
+				}
+			}
+		}
+		s.part[z] = [2]float64{e, 0}
+	}
+}
