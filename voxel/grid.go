@@ -131,3 +131,43 @@ func (g *Grid) Clone() *Grid {
 	h.Particle = append([]int32(nil), g.Particle...)
 	return &h
 }
+
+// Step returns the offset of the face neighbour of voxel i in direction dir
+// (0 −x, 1 +x, 2 −y, 3 +y, 4 −z, 5 +z), with periodic wrapping. It is the
+// one-direction form of Neighbours, for random walks.
+func (g *Grid) Step(i, dir int) int {
+	nx, ny, nz := g.NX, g.NY, g.NZ
+	switch dir {
+	case 0:
+		if i%nx == 0 {
+			return i + nx - 1
+		}
+		return i - 1
+	case 1:
+		if i%nx == nx-1 {
+			return i - nx + 1
+		}
+		return i + 1
+	case 2:
+		if (i/nx)%ny == 0 {
+			return i + nx*(ny-1)
+		}
+		return i - nx
+	case 3:
+		if (i/nx)%ny == ny-1 {
+			return i - nx*(ny-1)
+		}
+		return i + nx
+	case 4:
+		if i/(nx*ny) == 0 {
+			return i + nx*ny*(nz-1)
+		}
+		return i - nx*ny
+	case 5:
+		if i/(nx*ny) == nz-1 {
+			return i - nx*ny*(nz-1)
+		}
+		return i + nx*ny
+	}
+	panic("voxel: Step direction out of range 0–5")
+}

@@ -24,3 +24,20 @@ func TestNeighboursMatchWrap(t *testing.T) {
 		}
 	}
 }
+
+// TestStepMatchesNeighbours checks the one-direction kernel against the
+// six-neighbour kernel.
+func TestStepMatchesNeighbours(t *testing.T) {
+	for _, d := range [][3]int{{1, 1, 1}, {2, 3, 1}, {3, 4, 5}} {
+		g, _ := NewGrid(d[0], d[1], d[2], 1)
+		var nb [6]int
+		for i := 0; i < g.Len(); i++ {
+			g.Neighbours(i, &nb)
+			for dir := 0; dir < 6; dir++ {
+				if s := g.Step(i, dir); s != nb[dir] {
+					t.Fatalf("box %v voxel %d dir %d: Step %d, Neighbours %d", d, i, dir, s, nb[dir])
+				}
+			}
+		}
+	}
+}

@@ -1,0 +1,192 @@
+package kinetics
+
+import (
+	"fmt"
+	"math"
+)
+
+// GasConstant is R in J/(mol·K).
+const GasConstant = 8.314462618
+
+// RefTempK is the temperature at which rate constants are stated: 20 °C.
+const RefTempK = 293.15
+
+// Arrhenius returns the factor exp(−Ea/R (1/T − 1/Tref)) by which a rate
+// constant stated at 20 °C changes at tempC, for an activation energy in
+// kJ/mol.
+func Arrhenius(eaKJPerMol, tempC float64) float64 {
+	return math.Exp(-eaKJPerMol * 1e3 / GasConstant * (1/(tempC+273.15) - 1/RefTempK))
+}
+
+// Dissolution is the dissolution law of one phase. A surface voxel of the
+// phase dissolves at the rate
+//
+//	k = v/h · (n_w + β·n_p) · g · A(T)
+//
+// in 1/s, where v is the surface recession velocity, h the voxel edge,
+// n_w the number of its faces touching pore water, n_p the number touching
+// C-S-H (dissolution through the product layer), β the through-product
+// factor, g the solution factor (undersaturation of the silicates, sulfate
+// inhibition of the aluminates) and A(T) the Arrhenius factor. Because v is
+// a velocity and the rate is per exposed face, the law does not depend on
+// the voxel size.
+type Dissolution struct {
+	Phase          ID
+	VelocityUMPerH float64 // surface recession velocity at 20 °C, µm/h
+	ThroughProduct float64 // β, 0–1
+	SulfateFactor  float64 // multiplier while sulfate remains (aluminates); 1 = none
+	EaKJPerMol     float64 // apparent activation energy, kJ/mol
+}
+
+// Params are the rate constants and growth rules of the engine. The zero
+// value is not useful; start from DefaultParams.
+//
+// Defaults were chosen so that the embedded demo cement at w/c 0.5, 20 °C,
+// saturated, lands inside the typical ranges of REFERENCES.md (degree of
+// hydration at 1, 7 and 28 days, main heat peak within the first day).
+// They are a starting point: calibrate them to your own cement against an
+// isothermal calorimetry curve (gelspace fit).
+type Params struct {
+	Dissolve []Dissolution
+
+	// SilicateSaturation is the dissolved C-S-H, as voxels of product per
+	// voxel of pore water, at which the solution is saturated with respect
+	// to the silicates: their dissolution factor is g = 1 − c/c_sat.
+	SilicateSaturation float64
+	// CSHNucleationPerUM2H is the rate of heterogeneous C-S-H nucleation on
+	// silicate surface in contact with water, at saturation, per µm² per
+	// hour; it scales with c/c_sat.
+	CSHNucleationPerUM2H float64
+	// CHSaturation is the dissolved CH (voxels per voxel of pore water)
+	// above which CH nucleates in the pore solution.
+	CHSaturation float64
+	// CHNucleationPerUM3H is the CH nucleation rate per µm³ of pore water
+	// per hour at twice the saturation; it scales with (c/c_sat − 1)².
+	CHNucleationPerUM3H float64
+	// GypsumSolubilityMolPerL bounds the dissolved sulfate pool.
+	GypsumSolubilityMolPerL float64
+	// AttemptPerH is the rate at which each dissolved product unit makes a
+	// precipitation attempt (a random walk of WalkSteps through the pore
+	// water), per hour.
+	AttemptPerH float64
+	// WalkSteps bounds one attempt; SpawnSteps bounds the first walk of a
+	// unit from the site where it dissolved.
+	WalkSteps, SpawnSteps int
+	// NucleationEaKJPerMol is the activation energy of nucleation and of
+	// precipitation attempts.
+	NucleationEaKJPerMol float64
+
+	// Growth lists, per product, where its dissolved units may precipitate.
+	Growth []Growth
+}
+
+// Growth is the precipitation rule of one product. A dissolved unit at a
+// pore-water voxel sticks there with probability max over the six face
+// neighbours of On[neighbour phase]; if one of the neighbours belongs to
+// Seeds, Seeded is used for the other neighbours instead where it is
+// larger. C-S-H uses Seeds to grow from its own nuclei and grains it
+// already covers; CH has no Seeded list, so it grows only on CH crystals.
+type Growth struct {
+	Product ID
+	On      map[ID]float64
+	Seeds   []ID
+	Seeded  map[ID]float64
+}
+
+// DefaultParams returns the default calibration.
+func DefaultParams() Params {
+	ea := 40.0 // kJ/mol, the typical 40–45 of ASTM C1074 guidance (REFERENCES.md, from memory)
+	return Params{
+		Dissolve: []Dissolution{
+			{Phase: C3S, VelocityUMPerH: 0.25, ThroughProduct: 0.06, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: C2S, VelocityUMPerH: 0.025, ThroughProduct: 0.06, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: C3A, VelocityUMPerH: 0.6, ThroughProduct: 0.06, SulfateFactor: 0.03, EaKJPerMol: ea},
+			{Phase: C4AF, VelocityUMPerH: 0.15, ThroughProduct: 0.06, SulfateFactor: 0.3, EaKJPerMol: ea},
+			{Phase: Gypsum, VelocityUMPerH: 5, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: Hemihydrate, VelocityUMPerH: 10, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: Anhydrite, VelocityUMPerH: 2, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: AFt, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+		},
+		SilicateSaturation:      0.002,
+		CSHNucleationPerUM2H:    0.002,
+		CHSaturation:            0.004,
+		CHNucleationPerUM3H:     1e-5,
+		GypsumSolubilityMolPerL: 0.015, // about 2.4 g/L CaSO4·2H2O at 20 °C (common practice)
+		AttemptPerH:             6,
+		WalkSteps:               250,
+		SpawnSteps:              400,
+		NucleationEaKJPerMol:    ea,
+		Growth: []Growth{
+			{Product: CSHOuter,
+				On:     map[ID]float64{CSHInner: 0.15, CSHOuter: 0.15, Calcite: 0.01},
+				Seeds:  []ID{CSHInner, CSHOuter},
+				Seeded: map[ID]float64{C3S: 1, C2S: 1, C3A: 0.5, C4AF: 0.5, CH: 0.5, AFt: 0.5, AFm: 0.5, Calcite: 0.5, Inert: 0.3, Gypsum: 0.3}},
+			{Product: CH, On: map[ID]float64{CH: 0.5}},
+			{Product: AFt, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, AFt: 0.5, AFm: 0.3, Gypsum: 0.2,
+				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, Calcite: 0.03, Inert: 0.03}},
+			{Product: AFm, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, AFt: 0.5, AFm: 0.5,
+				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, Calcite: 0.03, Inert: 0.03}},
+			{Product: Hydrogarnet, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, Hydrogarnet: 0.5,
+				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, AFt: 0.03, AFm: 0.03}},
+			{Product: FH3, On: map[ID]float64{C4AF: 0.5, FH3: 0.5,
+				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, AFt: 0.03, AFm: 0.03, Hydrogarnet: 0.03}},
+		},
+	}
+}
+
+// DissolutionOf returns the dissolution law of a phase, or nil.
+func (p *Params) DissolutionOf(id ID) *Dissolution {
+	for i := range p.Dissolve {
+		if p.Dissolve[i].Phase == id {
+			return &p.Dissolve[i]
+		}
+	}
+	return nil
+}
+
+// GrowthOf returns the growth rule of a product, or nil.
+func (p *Params) GrowthOf(id ID) *Growth {
+	for i := range p.Growth {
+		if p.Growth[i].Product == id {
+			return &p.Growth[i]
+		}
+	}
+	return nil
+}
+
+// Validate reports the first parameter outside its range.
+func (p *Params) Validate() error {
+	for _, d := range p.Dissolve {
+		name := Lookup(d.Phase).Key
+		switch {
+		case d.VelocityUMPerH < 0 || math.IsNaN(d.VelocityUMPerH):
+			return fmt.Errorf("kinetics.%s.velocity_um_per_h = %g: must be ≥ 0", name, d.VelocityUMPerH)
+		case d.ThroughProduct < 0 || d.ThroughProduct > 1:
+			return fmt.Errorf("kinetics.%s.through_product = %g: must be in [0, 1]", name, d.ThroughProduct)
+		case d.SulfateFactor < 0 || d.SulfateFactor > 1:
+			return fmt.Errorf("kinetics.%s.sulfate_factor = %g: must be in [0, 1]", name, d.SulfateFactor)
+		case d.EaKJPerMol < 0 || d.EaKJPerMol > 150:
+			return fmt.Errorf("kinetics.%s.ea_kj_per_mol = %g: must be in [0, 150]", name, d.EaKJPerMol)
+		}
+	}
+	pos := []struct {
+		key string
+		v   float64
+	}{
+		{"silicate_saturation", p.SilicateSaturation}, {"csh_nucleation_per_um2_h", p.CSHNucleationPerUM2H},
+		{"ch_saturation", p.CHSaturation}, {"ch_nucleation_per_um3_h", p.CHNucleationPerUM3H},
+		{"gypsum_solubility_mol_per_l", p.GypsumSolubilityMolPerL}, {"attempt_per_h", p.AttemptPerH},
+	}
+	for _, q := range pos {
+		if !(q.v > 0) || math.IsInf(q.v, 0) {
+			return fmt.Errorf("kinetics.%s = %g: must be > 0", q.key, q.v)
+		}
+	}
+	if p.WalkSteps < 1 || p.WalkSteps > 100000 || p.SpawnSteps < 1 || p.SpawnSteps > 100000 {
+		return fmt.Errorf("kinetics.walk_steps = %d, spawn_steps = %d: each must be in [1, 100000]", p.WalkSteps, p.SpawnSteps)
+	}
+	if p.NucleationEaKJPerMol < 0 || p.NucleationEaKJPerMol > 150 {
+		return fmt.Errorf("kinetics.nucleation_ea_kj_per_mol = %g: must be in [0, 150]", p.NucleationEaKJPerMol)
+	}
+	return nil
+}

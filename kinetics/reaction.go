@@ -1,0 +1,116 @@
+package kinetics
+
+// Term is one species of a reaction: a phase and its moles per mole of
+// reaction. Phase Water stands for H2O.
+type Term struct {
+	Phase ID
+	Mol   float64
+}
+
+// Reaction is a hydration reaction in cement chemist notation. A reaction
+// runs when one voxel of its Primary phase dissolves; the co-reactants are
+// taken from the dissolved pools of the solution, and the products leave as
+// dissolved units that precipitate where the growth rules allow.
+//
+// Stoichiometries are the textbook forms (Taylor 1997; Mindess & Young)
+// listed in REFERENCES.md, recalled; each one balances by mass, which a test
+// checks with the phase table's molar masses.
+type Reaction struct {
+	Key        string
+	Formula    string
+	Primary    ID      // phase whose voxel drives the reaction
+	PrimaryMol float64 // moles of Primary per mole of reaction
+	Co         []Term  // solid co-reactants drawn from the solution pools
+	WaterMol   float64 // moles of H2O consumed per mole of reaction
+	Products   []Term
+	// HeatJPerG is the heat released per gram of Primary (Lerch & Bogue
+	// values as given by Taylor 1997, recalled; hemihydrate and anhydrite
+	// from their heats of conversion to gypsum, about 17 kJ/mol, recalled).
+	HeatJPerG float64
+}
+
+// Reaction keys.
+const (
+	RxC3S         = "c3s"
+	RxC2S         = "c2s"
+	RxC3AAFt      = "c3a_aft"
+	RxC3AAFm      = "c3a_afm"
+	RxC3AHG       = "c3a_hydrogarnet"
+	RxC4AFAFt     = "c4af_aft"
+	RxC4AFAFm     = "c4af_afm"
+	RxC4AFHG      = "c4af_hydrogarnet"
+	RxHemihydrate = "hemihydrate"
+	RxAnhydrite   = "anhydrite"
+)
+
+var reactions = []Reaction{
+	{Key: RxC3S, Formula: "C3S + 5.3H → C1.7SH4 + 1.3CH", Primary: C3S, PrimaryMol: 1, WaterMol: 5.3,
+		Products: []Term{{CSHOuter, 1}, {CH, 1.3}}, HeatJPerG: 517},
+	{Key: RxC2S, Formula: "C2S + 4.3H → C1.7SH4 + 0.3CH", Primary: C2S, PrimaryMol: 1, WaterMol: 4.3,
+		Products: []Term{{CSHOuter, 1}, {CH, 0.3}}, HeatJPerG: 262},
+	{Key: RxC3AAFt, Formula: "C3A + 3CS̄H2 + 26H → C6AS̄3H32", Primary: C3A, PrimaryMol: 1, Co: []Term{{Gypsum, 3}}, WaterMol: 26,
+		Products: []Term{{AFt, 1}}, HeatJPerG: 1670},
+	{Key: RxC3AAFm, Formula: "2C3A + C6AS̄3H32 + 4H → 3C4AS̄H12", Primary: C3A, PrimaryMol: 2, Co: []Term{{AFt, 1}}, WaterMol: 4,
+		Products: []Term{{AFm, 3}}, HeatJPerG: 1144},
+	{Key: RxC3AHG, Formula: "C3A + 6H → C3AH6", Primary: C3A, PrimaryMol: 1, WaterMol: 6,
+		Products: []Term{{Hydrogarnet, 1}}, HeatJPerG: 866},
+	{Key: RxC4AFAFt, Formula: "C4AF + 3CS̄H2 + 30H → C6(A,F)S̄3H32 + CH + FH3", Primary: C4AF, PrimaryMol: 1, Co: []Term{{Gypsum, 3}}, WaterMol: 30,
+		Products: []Term{{AFt, 1}, {CH, 1}, {FH3, 1}}, HeatJPerG: 418},
+	{Key: RxC4AFAFm, Formula: "2C4AF + C6AS̄3H32 + 12H → 3C4AS̄H12 + 2CH + 2FH3", Primary: C4AF, PrimaryMol: 2, Co: []Term{{AFt, 1}}, WaterMol: 12,
+		Products: []Term{{AFm, 3}, {CH, 2}, {FH3, 2}}, HeatJPerG: 418},
+	{Key: RxC4AFHG, Formula: "C4AF + 10H → C3AH6 + CH + FH3", Primary: C4AF, PrimaryMol: 1, WaterMol: 10,
+		Products: []Term{{Hydrogarnet, 1}, {CH, 1}, {FH3, 1}}, HeatJPerG: 418},
+	{Key: RxHemihydrate, Formula: "CS̄H0.5 + 1.5H → CS̄H2 (dissolved)", Primary: Hemihydrate, PrimaryMol: 1, WaterMol: 1.5,
+		Products: []Term{{Gypsum, 1}}, HeatJPerG: 117},
+	{Key: RxAnhydrite, Formula: "CS̄ + 2H → CS̄H2 (dissolved)", Primary: Anhydrite, PrimaryMol: 1, WaterMol: 2,
+		Products: []Term{{Gypsum, 1}}, HeatJPerG: 124},
+}
+
+// Reactions returns the reaction table. The slice is shared: do not modify.
+func Reactions() []Reaction { return reactions }
+
+// ReactionByKey returns the reaction with the given key, or nil.
+func ReactionByKey(key string) *Reaction {
+	for i := range reactions {
+		if reactions[i].Key == key {
+			return &reactions[i]
+		}
+	}
+	return nil
+}
+
+// VoxelsPerVoxel returns, for a reaction driven by one voxel of its Primary,
+// the voxels of phase id produced (positive) or consumed (negative, for
+// co-reactants), from the molar volumes. Water is returned in voxels of
+// liquid water.
+func (r *Reaction) VoxelsPerVoxel(id ID) float64 {
+	vp := r.PrimaryMol * Lookup(r.Primary).MolarVolumeCM3()
+	var v float64
+	if id == Water {
+		return r.WaterMol * WaterMolarMass / WaterDensity / vp
+	}
+	for _, t := range r.Products {
+		if t.Phase == id {
+			v += t.Mol * Lookup(id).MolarVolumeCM3()
+		}
+	}
+	for _, t := range r.Co {
+		if t.Phase == id {
+			v -= t.Mol * Lookup(id).MolarVolumeCM3()
+		}
+	}
+	return v / vp
+}
+
+// ChemicalShrinkage returns the volume lost per volume of Primary reacted:
+// reactants (primary, co-reactants, water) less products.
+func (r *Reaction) ChemicalShrinkage() float64 {
+	s := 1 + r.VoxelsPerVoxel(Water)
+	for _, t := range r.Co {
+		s -= r.VoxelsPerVoxel(t.Phase)
+	}
+	for _, t := range r.Products {
+		s -= r.VoxelsPerVoxel(t.Phase)
+	}
+	return s
+}

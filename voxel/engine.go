@@ -1,0 +1,436 @@
+package voxel
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"gelspace/kinetics"
+)
+
+// The hydration engine.
+//
+// Model. Hydration runs through the solution. Clinker and sulfate voxels
+// dissolve at faces that touch pore water (or, more slowly, through a C-S-H
+// layer); each dissolution runs one reaction of the kinetics table, whose
+// products leave the site as dissolved units, one unit per voxel of product.
+// Units move as random walkers through the pore water and precipitate where
+// their product's growth rule lets them stick: C-S-H on its own nuclei and
+// on what they cover, CH on its few crystals, the aluminate hydrates on and
+// near aluminate and ferrite. Units that find no site stay dissolved; they
+// make up the solution's concentration, which slows the silicates as it
+// approaches saturation and drives the nucleation of C-S-H on silicate
+// surfaces and of CH in the pores. Co-reactants (the sulfate of gypsum,
+// hemihydrate and anhydrite; ettringite when the sulfate is gone) are taken
+// from well-mixed dissolved pools, dissolving solid voxels as needed.
+//
+// The dormant period, the acceleration and the deceleration are not
+// scripted: the early dissolution saturates the solution and stops; nuclei
+// of C-S-H form at a rate proportional to silicate surface and saturation;
+// each nucleus is a site where units precipitate, which lets dissolution go
+// on, which makes more units near the growing product (autocatalysis); then
+// C-S-H covers the grains, which only dissolve through it at the slower
+// through-product rate, and the pore space and water run out.
+//
+// Clock. Every dissolution, nucleation and precipitation attempt is an event
+// with a rate in 1/s (see kinetics.Dissolution and kinetics.Params); the
+// engine uses Gillespie's direct method: the waiting time is exponential
+// with the total rate, and the event is chosen in proportion to its rate.
+// Surface voxels are kept in rate classes — one indexed set per phase and
+// exposure (faces touching water, faces touching C-S-H) — so choosing and
+// updating an event costs O(1), independent of the box size.
+//
+// Time-scale separation. Diffusion over a few µm takes milliseconds, far
+// less than any reaction time, so the steps of a walk take no clock time: a
+// walk is the spatial sampling of where a unit precipitates, and its
+// success is subject to the attempt rate (kinetics.Params.AttemptPerH).
+//
+// Volumes. Every reaction turns one voxel of its primary phase into product
+// volumes from the molar volumes of the phase table; the fractional voxels
+// of each product of each reaction are carried in accumulators, so each
+// product's voxel count stays within one voxel of the stoichiometry.
+// Saturated curing draws outside water into the chemical shrinkage; sealed
+// curing empties the water voxels at the centres of the largest pores as
+// the shrinkage grows, and hydration slows and stops as the water runs out.
+
+// Engine is the state of one hydrating paste.
+type Engine struct {
+	g       *Grid
+	p       kinetics.Params
+	thermal kinetics.Thermal
+	sealed  bool
+
+	voxCM3  float64 // voxel volume, cm³
+	cementG float64 // mass of clinker and sulfate in the box at the start, g
+
+	// Dissolving phases, by index d.
+	dph      []kinetics.ID
+	dOf      [kinetics.NumIDs]int8 // phase → d, or −1
+	velPerS  []float64             // v/h, 1/s per exposed face at 20 °C
+	beta     []float64
+	sulfFac  []float64
+	ea       []float64
+	rxOfD    []int // reaction index for phases with one reaction, −1 otherwise
+	cls      []uint8
+	slot     []int32
+	sets     [][]int32 // d*classesPerPhase + exposure class → members
+	sumW     []int     // per d: Σ faces touching water
+	sumH     []int     // per d: Σ faces touching C-S-H
+	rules    [kinetics.NumIDs]*stickRule
+	anySolid stickRule     // rule for trapped units
+	products []kinetics.ID // products that travel as units, in event order
+
+	s   state
+	pcg *rand.PCG
+	r   *rand.Rand
+	// scratch
+	arrT    float64
+	arrD    []float64
+	arrNuc  float64
+	rates   []float64
+	rxIndex map[string]int
+}
+
+// state is everything that changes during a run apart from the lattice and
+// the class sets; it is saved whole in checkpoints.
+type state struct {
+	TimeS      float64
+	Pending    bool
+	NextS      float64
+	HeatJ      float64
+	WaterMol   float64                  // water consumed by reactions
+	ShrinkVox  float64                  // chemical shrinkage so far, voxels
+	ShrinkAcc  float64                  // sealed: shrinkage not yet emptied, voxels
+	PoolSO4Mol float64                  // dissolved sulfate, as mol of gypsum
+	PoolAFtMol float64                  // dissolved ettringite awaiting conversion
+	Free       [kinetics.NumIDs][]int32 // positions of dissolved units
+	Fails      [kinetics.NumIDs][]uint8 // failed attempts of each unit
+	Acc        [][]float64              // per reaction, per product term: fractional voxels
+	Spawned    [][]int                  // per reaction, per product term: units made
+	RxVoxels   []int                    // per reaction: primary voxels reacted
+	Count      [kinetics.NumIDs]int
+	Initial    [kinetics.NumIDs]int
+	Reacted    [kinetics.NumIDs]int // voxels of each phase consumed
+	Events     uint64
+	Steps      uint64
+	EmptyList  []int32
+	EmptyPos   int
+	WaterOut   bool // sealed: shrinkage could not be emptied (no water left)
+	RNG        []byte
+}
+
+// maxFails is the number of failed precipitation attempts after which a
+// dissolved unit is taken to be trapped in a pore that holds no site for it:
+// the pore solution there is supersaturated, and the unit precipitates on
+// the first solid surface its next walk meets.
+const maxFails = 12
+
+type stickRule struct {
+	on, seeded [kinetics.NumIDs]float32
+	seed       [kinetics.NumIDs]bool
+	hasSeeds   bool
+}
+
+const (
+	classesPerPhase = 28
+	noClass         = 255
+)
+
+// triIdx maps (faces to water, faces to C-S-H) with sum ≤ 6 to 0–27;
+// (0, 0), a voxel with no exposure, has index 0 and is never stored.
+var triIdx [7][7]uint8
+var triW, triH [classesPerPhase]uint8
+
+func init() {
+	k := uint8(0)
+	for w := 0; w <= 6; w++ {
+		for h := 0; h+w <= 6; h++ {
+			triIdx[w][h] = k
+			triW[k], triH[k] = uint8(w), uint8(h)
+			k++
+		}
+	}
+}
+
+// EngineSettings configure NewEngine.
+type EngineSettings struct {
+	Params  kinetics.Params
+	Thermal kinetics.Thermal
+	Sealed  bool   // sealed curing; saturated when false
+	Seed    uint64 // random seed
+}
+
+// NewEngine prepares the grid for hydration. The engine owns g from now on.
+func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
+	if err := set.Params.Validate(); err != nil {
+		return nil, err
+	}
+	if err := set.Thermal.Validate(); err != nil {
+		return nil, err
+	}
+	e := &Engine{g: g, p: set.Params, thermal: set.Thermal, sealed: set.Sealed}
+	e.voxCM3 = math.Pow(g.VoxelUM*1e-4, 3)
+	e.rxIndex = map[string]int{}
+	for i, r := range kinetics.Reactions() {
+		e.rxIndex[r.Key] = i
+	}
+	for i := range e.dOf {
+		e.dOf[i] = -1
+	}
+	for _, d := range e.p.Dissolve {
+		e.dOf[d.Phase] = int8(len(e.dph))
+		e.dph = append(e.dph, d.Phase)
+		e.velPerS = append(e.velPerS, d.VelocityUMPerH/g.VoxelUM/3600)
+		e.beta = append(e.beta, d.ThroughProduct)
+		e.sulfFac = append(e.sulfFac, d.SulfateFactor)
+		e.ea = append(e.ea, d.EaKJPerMol)
+		rx := -1
+		switch d.Phase {
+		case kinetics.C3S:
+			rx = e.rxIndex[kinetics.RxC3S]
+		case kinetics.C2S:
+			rx = e.rxIndex[kinetics.RxC2S]
+		case kinetics.Hemihydrate:
+			rx = e.rxIndex[kinetics.RxHemihydrate]
+		case kinetics.Anhydrite:
+			rx = e.rxIndex[kinetics.RxAnhydrite]
+		}
+		e.rxOfD = append(e.rxOfD, rx)
+	}
+	for _, id := range []kinetics.ID{kinetics.Gypsum, kinetics.AFt} {
+		if e.dOf[id] < 0 {
+			return nil, fmt.Errorf("voxel: the kinetics table must give a dissolution law for %s", kinetics.Lookup(id).Key)
+		}
+	}
+	for i := range e.p.Growth {
+		gr := &e.p.Growth[i]
+		r := &stickRule{}
+		for id, v := range gr.On {
+			r.on[id] = float32(v)
+		}
+		for id, v := range gr.Seeded {
+			r.seeded[id] = float32(v)
+		}
+		for _, id := range gr.Seeds {
+			r.seed[id] = true
+			r.hasSeeds = true
+		}
+		e.rules[gr.Product] = r
+		e.products = append(e.products, gr.Product)
+	}
+	for i := range kinetics.Phases() {
+		if ph := &kinetics.Phases()[i]; kinetics.IsSolid(ph.ID) {
+			e.anySolid.on[ph.ID] = 1
+		}
+	}
+	rxs := kinetics.Reactions()
+	e.s.Acc = make([][]float64, len(rxs))
+	e.s.Spawned = make([][]int, len(rxs))
+	e.s.RxVoxels = make([]int, len(rxs))
+	for i, r := range rxs {
+		e.s.Acc[i] = make([]float64, len(r.Products))
+		e.s.Spawned[i] = make([]int, len(r.Products))
+		for _, t := range r.Products {
+			if t.Phase != kinetics.Gypsum && e.rules[t.Phase] == nil {
+				return nil, fmt.Errorf("voxel: no growth rule for %s, a product of %s", kinetics.Lookup(t.Phase).Key, r.Key)
+			}
+		}
+	}
+	for _, id := range g.Phase {
+		if kinetics.Lookup(id) == nil {
+			return nil, fmt.Errorf("voxel: phase id %d in the grid is not in the phase table", id)
+		}
+	}
+	e.s.Count = g.Count()
+	e.s.Initial = e.s.Count
+	for i := range kinetics.Phases() {
+		ph := &kinetics.Phases()[i]
+		if ph.Role == kinetics.RoleClinker || ph.Role == kinetics.RoleSulfate {
+			e.cementG += float64(e.s.Count[ph.ID]) * ph.DensityGPerCM3 * e.voxCM3
+		}
+	}
+	if e.cementG == 0 {
+		return nil, errors.New("voxel: the box holds no cement to hydrate")
+	}
+	e.pcg = rand.NewPCG(set.Seed, set.Seed^0x9e3779b97f4a7c15)
+	e.r = rand.New(e.pcg)
+	e.buildClasses()
+	e.arrT = math.NaN()
+	e.arrD = make([]float64, len(e.dph))
+	e.rates = make([]float64, len(e.dph)+2+len(e.products))
+	return e, nil
+}
+
+// buildClasses puts every exposed voxel of a dissolving phase in its class,
+// scanning in index order (deterministic).
+func (e *Engine) buildClasses() {
+	n := e.g.Len()
+	e.cls = make([]uint8, n)
+	e.slot = make([]int32, n)
+	e.sets = make([][]int32, len(e.dph)*classesPerPhase)
+	e.sumW = make([]int, len(e.dph))
+	e.sumH = make([]int, len(e.dph))
+	for i := range e.cls {
+		e.cls[i] = noClass
+	}
+	for i := 0; i < n; i++ {
+		if e.dOf[e.g.Phase[i]] >= 0 {
+			e.reclassify(i)
+		}
+	}
+}
+
+func (e *Engine) exposure(i int) (w, h int) {
+	var nb [6]int
+	e.g.Neighbours(i, &nb)
+	for _, j := range nb {
+		switch e.g.Phase[j] {
+		case kinetics.Water:
+			w++
+		case kinetics.CSHInner, kinetics.CSHOuter:
+			h++
+		}
+	}
+	return
+}
+
+// reclassify moves voxel i to the class its phase and exposure call for.
+func (e *Engine) reclassify(i int) {
+	d := e.dOf[e.g.Phase[i]]
+	want := uint8(noClass)
+	var w, h int
+	if d >= 0 {
+		w, h = e.exposure(i)
+		if w+h > 0 {
+			want = uint8(int(d)*classesPerPhase + int(triIdx[w][h]))
+		}
+	}
+	old := e.cls[i]
+	if old == want {
+		return
+	}
+	if old != noClass {
+		set := e.sets[old]
+		k := e.slot[i]
+		last := set[len(set)-1]
+		set[k] = last
+		e.slot[last] = k
+		e.sets[old] = set[:len(set)-1]
+		od := int(old) / classesPerPhase
+		oc := int(old) % classesPerPhase
+		e.sumW[od] -= int(triW[oc])
+		e.sumH[od] -= int(triH[oc])
+	}
+	e.cls[i] = want
+	if want != noClass {
+		e.slot[i] = int32(len(e.sets[want]))
+		e.sets[want] = append(e.sets[want], int32(i))
+		e.sumW[d] += w
+		e.sumH[d] += h
+	}
+}
+
+// setPhase changes voxel i and keeps counts and classes current.
+func (e *Engine) setPhase(i int, id kinetics.ID) {
+	old := e.g.Phase[i]
+	e.s.Count[old]--
+	e.s.Count[id]++
+	e.g.Phase[i] = id
+	e.reclassify(i)
+	var nb [6]int
+	e.g.Neighbours(i, &nb)
+	for _, j := range nb {
+		if e.dOf[e.g.Phase[j]] >= 0 {
+			e.reclassify(j)
+		}
+	}
+}
+
+// TimeH returns the simulated age in hours.
+func (e *Engine) TimeH() float64 { return e.s.TimeS / 3600 }
+
+// TempC returns the paste temperature now.
+func (e *Engine) TempC() float64 { return e.thermal.At(e.TimeH(), e.HeatJPerG()) }
+
+// HeatJPerG returns the heat released per gram of cement.
+func (e *Engine) HeatJPerG() float64 { return e.s.HeatJ / e.cementG }
+
+// CementG returns the mass of cement (clinker and sulfate) in the box, g.
+func (e *Engine) CementG() float64 { return e.cementG }
+
+// Grid returns the lattice (owned by the engine; read only).
+func (e *Engine) Grid() *Grid { return e.g }
+
+// Events returns the number of events so far and of walk steps taken.
+func (e *Engine) Events() (events, steps uint64) { return e.s.Events, e.s.Steps }
+
+// AlphaOf returns the degree of hydration of one phase: the fraction of its
+// initial voxels that have reacted. NaN when the box had none.
+func (e *Engine) AlphaOf(id kinetics.ID) float64 {
+	if e.s.Initial[id] == 0 {
+		return math.NaN()
+	}
+	return float64(e.s.Reacted[id]) / float64(e.s.Initial[id])
+}
+
+// Alpha returns the mass-weighted degree of hydration of the clinker phases.
+func (e *Engine) Alpha() float64 {
+	var num, den float64
+	for i := range kinetics.Phases() {
+		ph := &kinetics.Phases()[i]
+		if ph.Role == kinetics.RoleClinker {
+			num += float64(e.s.Reacted[ph.ID]) * ph.DensityGPerCM3
+			den += float64(e.s.Initial[ph.ID]) * ph.DensityGPerCM3
+		}
+	}
+	if den == 0 {
+		return math.NaN()
+	}
+	return num / den
+}
+
+// Count returns the number of voxels of a phase now; dissolved units not
+// yet precipitated are not counted.
+func (e *Engine) Count(id kinetics.ID) int { return e.s.Count[id] }
+
+// Dissolved returns the number of dissolved units of a product.
+func (e *Engine) Dissolved(id kinetics.ID) int { return len(e.s.Free[id]) }
+
+// WaterConsumedGPerG returns the water bound by the reactions (chemically
+// combined plus gel water), per gram of cement.
+func (e *Engine) WaterConsumedGPerG() float64 {
+	return e.s.WaterMol * kinetics.WaterMolarMass / e.cementG
+}
+
+// ChemShrinkageMLPerG returns the chemical shrinkage per gram of cement.
+func (e *Engine) ChemShrinkageMLPerG() float64 { return e.s.ShrinkVox * e.voxCM3 / e.cementG }
+
+// NonEvaporableGPerG returns the water that the hydrates keep when D-dried,
+// per gram of cement, from each hydrate's bound water in the phase table
+// (precipitated and dissolved units both count).
+func (e *Engine) NonEvaporableGPerG() float64 {
+	var w float64
+	for i := range kinetics.Phases() {
+		ph := &kinetics.Phases()[i]
+		if ph.Role != kinetics.RoleHydrate {
+			continue
+		}
+		n := float64(e.s.Count[ph.ID] + len(e.s.Free[ph.ID]))
+		w += n * e.voxCM3 / ph.MolarVolumeCM3() * ph.BoundWaterMol * kinetics.WaterMolarMass
+	}
+	return w / e.cementG
+}
+
+// Spawned returns, for reaction key, the primary voxels reacted and the
+// units made of each product term.
+func (e *Engine) Spawned(key string) (reacted int, units []int) {
+	i, ok := e.rxIndex[key]
+	if !ok {
+		return 0, nil
+	}
+	return e.s.RxVoxels[i], append([]int(nil), e.s.Spawned[i]...)
+}
+
+// WaterOut reports whether, in sealed curing, the capillary water ran out.
+func (e *Engine) WaterOut() bool { return e.s.WaterOut }

@@ -1,0 +1,652 @@
+package voxel
+
+import (
+	"fmt"
+	"math"
+
+	"gelspace/kinetics"
+)
+
+// event kinds after the dissolution events (one per dissolving phase).
+const (
+	evCSHNucleation = iota
+	evCHNucleation
+	evAttempt // one per product, in e.products order
+)
+
+// waterHalfFraction is the capillary-water fraction of the box at which
+// dissolution runs at half speed: hydration slows and stops as the water
+// runs out.
+const waterHalfFraction = 0.01
+
+// AdvanceTo runs events until the age reaches untilH hours (or nothing can
+// happen any more). Stopping at an intermediate age does not change what
+// follows: a drawn event that falls beyond untilH is kept for the next call.
+func (e *Engine) AdvanceTo(untilH float64) error {
+	stop := untilH * 3600
+	for e.s.TimeS < stop {
+		if !e.s.Pending {
+			total := e.computeRates()
+			if total <= 0 || math.IsNaN(total) {
+				e.s.TimeS = stop
+				return nil
+			}
+			e.s.NextS = e.s.TimeS - math.Log(1-e.r.Float64())/total
+			e.s.Pending = true
+		}
+		if e.s.NextS > stop {
+			e.s.TimeS = stop
+			return nil
+		}
+		e.s.TimeS = e.s.NextS
+		e.s.Pending = false
+		total := e.computeRates()
+		if total <= 0 {
+			continue
+		}
+		if err := e.fire(total); err != nil {
+			return err
+		}
+		e.s.Events++
+	}
+	return nil
+}
+
+// computeRates fills e.rates (1/s) and returns their sum.
+func (e *Engine) computeRates() float64 {
+	tC := e.TempC()
+	if tC != e.arrT {
+		for d := range e.dph {
+			e.arrD[d] = kinetics.Arrhenius(e.ea[d], tC)
+		}
+		e.arrNuc = kinetics.Arrhenius(e.p.NucleationEaKJPerMol, tC)
+		e.arrT = tC
+	}
+	water := float64(e.s.Count[kinetics.Water])
+	n := float64(e.g.Len())
+	fw := water / (water + waterHalfFraction*n)
+	sSi := e.silicateSaturation()
+	sulfateLeft := e.sulfateLeft()
+	poolSat := e.p.GypsumSolubilityMolPerL * water * e.voxCM3 / 1000
+	var total float64
+	for d, id := range e.dph {
+		r := e.velPerS[d] * (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * e.arrD[d] * fw
+		switch id {
+		case kinetics.C3S, kinetics.C2S:
+			r *= math.Max(0, 1-sSi)
+		case kinetics.C3A, kinetics.C4AF:
+			if sulfateLeft {
+				r *= e.sulfFac[d]
+			}
+		case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
+			if poolSat <= 0 {
+				r = 0
+			} else {
+				r *= math.Max(0, 1-e.s.PoolSO4Mol/poolSat)
+			}
+		case kinetics.AFt:
+			r = 0 // dissolves only as a co-reactant, when called for
+		}
+		e.rates[d] = r
+		total += r
+	}
+	k := len(e.dph)
+	// C-S-H nucleates on silicate faces in contact with water.
+	var silFaces float64
+	for _, id := range []kinetics.ID{kinetics.C3S, kinetics.C2S} {
+		if d := e.dOf[id]; d >= 0 {
+			silFaces += float64(e.sumW[d])
+		}
+	}
+	r := 0.0
+	if len(e.s.Free[kinetics.CSHOuter]) > 0 {
+		r = e.p.CSHNucleationPerUM2H / 3600 * silFaces * e.g.VoxelUM * e.g.VoxelUM * math.Min(1, sSi) * e.arrNuc
+	}
+	e.rates[k+evCSHNucleation] = r
+	total += r
+	// CH nucleates in the pore solution above its saturation.
+	r = 0
+	if water > 0 {
+		if over := float64(len(e.s.Free[kinetics.CH]))/(e.p.CHSaturation*water) - 1; over > 0 {
+			r = e.p.CHNucleationPerUM3H / 3600 * water * math.Pow(e.g.VoxelUM, 3) * over * over * e.arrNuc
+		}
+	}
+	e.rates[k+evCHNucleation] = r
+	total += r
+	for j, id := range e.products {
+		r := e.p.AttemptPerH / 3600 * float64(len(e.s.Free[id])) * e.arrNuc
+		e.rates[k+evAttempt+j] = r
+		total += r
+	}
+	return total
+}
+
+func (e *Engine) silicateSaturation() float64 {
+	water := float64(e.s.Count[kinetics.Water])
+	if water <= 0 {
+		return 1
+	}
+	return float64(len(e.s.Free[kinetics.CSHOuter])) / (e.p.SilicateSaturation * water)
+}
+
+func (e *Engine) sulfateLeft() bool {
+	return e.s.PoolSO4Mol > 0 || e.s.Count[kinetics.Gypsum]+e.s.Count[kinetics.Hemihydrate]+e.s.Count[kinetics.Anhydrite] > 0
+}
+
+// fire chooses and runs one event in proportion to the rates.
+func (e *Engine) fire(total float64) error {
+	u := e.r.Float64() * total
+	k := 0
+	for ; k < len(e.rates)-1; k++ {
+		if u < e.rates[k] {
+			break
+		}
+		u -= e.rates[k]
+	}
+	for e.rates[k] == 0 && k > 0 { // rounding at the top end
+		k--
+	}
+	nd := len(e.dph)
+	switch {
+	case k < nd:
+		i := e.pickSurface(k, true)
+		if i < 0 {
+			return fmt.Errorf("voxel: internal error: no surface voxel of %s for a dissolution event", kinetics.Lookup(e.dph[k]).Key)
+		}
+		e.dissolve(i)
+	case k == nd+evCSHNucleation:
+		e.nucleateCSH()
+	case k == nd+evCHNucleation:
+		e.nucleateCH()
+	default:
+		e.attempt(e.products[k-nd-evAttempt])
+	}
+	return nil
+}
+
+// pickSurface returns a member of phase d's classes chosen with weight
+// n_w + β·n_p (weighted) or uniformly over exposed voxels, or −1.
+func (e *Engine) pickSurface(d int, weighted bool) int {
+	base := d * classesPerPhase
+	var tot float64
+	for c := 1; c < classesPerPhase; c++ {
+		tot += float64(len(e.sets[base+c])) * e.classWeight(d, c, weighted)
+	}
+	if tot <= 0 {
+		return -1
+	}
+	u := e.r.Float64() * tot
+	last := -1
+	for c := 1; c < classesPerPhase; c++ {
+		m := len(e.sets[base+c])
+		if m == 0 {
+			continue
+		}
+		w := float64(m) * e.classWeight(d, c, weighted)
+		if w <= 0 {
+			continue
+		}
+		last = c
+		if u < w {
+			break
+		}
+		u -= w
+	}
+	if last < 0 {
+		return -1
+	}
+	set := e.sets[base+last]
+	return int(set[e.r.IntN(len(set))])
+}
+
+func (e *Engine) classWeight(d, c int, weighted bool) float64 {
+	if !weighted {
+		return 1
+	}
+	return float64(triW[c]) + e.beta[d]*float64(triH[c])
+}
+
+// dissolve runs the reaction driven by voxel i of a dissolving phase.
+func (e *Engine) dissolve(i int) {
+	id := e.g.Phase[i]
+	d := e.dOf[id]
+	switch id {
+	case kinetics.C3A, kinetics.C4AF:
+		e.dissolveAluminate(i, id)
+	case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
+		e.dissolveSulfate(i)
+	default:
+		if rx := e.rxOfD[d]; rx >= 0 {
+			e.react(i, rx)
+		}
+	}
+}
+
+// dissolveAluminate picks the aluminate reaction the solution allows:
+// ettringite while sulfate lasts, monosulfate from ettringite after, and
+// hydrogarnet when neither is left.
+func (e *Engine) dissolveAluminate(i int, id kinetics.ID) {
+	aft, afm, hg := kinetics.RxC3AAFt, kinetics.RxC3AAFm, kinetics.RxC3AHG
+	if id == kinetics.C4AF {
+		aft, afm, hg = kinetics.RxC4AFAFt, kinetics.RxC4AFAFm, kinetics.RxC4AFHG
+	}
+	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
+	rAFt := &kinetics.Reactions()[e.rxIndex[aft]]
+	if e.takeSulfate(molVox * rAFt.Co[0].Mol / rAFt.PrimaryMol) {
+		e.react(i, e.rxIndex[aft])
+		return
+	}
+	rAFm := &kinetics.Reactions()[e.rxIndex[afm]]
+	if e.takeAFt(molVox * rAFm.Co[0].Mol / rAFm.PrimaryMol) {
+		e.react(i, e.rxIndex[afm])
+		return
+	}
+	e.react(i, e.rxIndex[hg])
+}
+
+// react turns voxel i into pore water and the products of reaction rx into
+// dissolved units that start walking from i.
+func (e *Engine) react(i, rx int) {
+	r := &kinetics.Reactions()[rx]
+	id := e.g.Phase[i]
+	ph := kinetics.Lookup(id)
+	molVox := e.voxCM3 / ph.MolarVolumeCM3()
+	e.s.HeatJ += r.HeatJPerG * ph.DensityGPerCM3 * e.voxCM3
+	e.s.WaterMol += r.WaterMol * molVox / r.PrimaryMol
+	shrink := r.ChemicalShrinkage()
+	e.s.ShrinkVox += shrink
+	e.s.Reacted[id]++
+	e.s.RxVoxels[rx]++
+	e.setPhase(i, kinetics.Water)
+	for t, term := range r.Products {
+		e.s.Acc[rx][t] += r.VoxelsPerVoxel(term.Phase)
+		n := int(e.s.Acc[rx][t])
+		e.s.Acc[rx][t] -= float64(n)
+		e.s.Spawned[rx][t] += n
+		if term.Phase == kinetics.Gypsum { // dissolved sulfate from hemihydrate or anhydrite
+			e.s.PoolSO4Mol += term.Mol * molVox / r.PrimaryMol
+			continue
+		}
+		for ; n > 0; n-- {
+			pos, ok := e.walk(int32(i), e.rules[term.Phase], term.Phase, e.p.SpawnSteps)
+			if !ok {
+				e.addFree(term.Phase, pos, 0)
+			}
+		}
+	}
+	if e.sealed {
+		e.s.ShrinkAcc += shrink
+		for e.s.ShrinkAcc >= 1 {
+			e.s.ShrinkAcc--
+			e.emptyOne()
+		}
+	}
+}
+
+// dissolveSulfate moves a sulfate voxel into the dissolved pool.
+func (e *Engine) dissolveSulfate(i int) {
+	id := e.g.Phase[i]
+	switch id {
+	case kinetics.Hemihydrate:
+		e.react(i, e.rxIndex[kinetics.RxHemihydrate])
+	case kinetics.Anhydrite:
+		e.react(i, e.rxIndex[kinetics.RxAnhydrite])
+	default:
+		e.s.PoolSO4Mol += e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
+		e.s.Reacted[id]++
+		e.setPhase(i, kinetics.Water)
+	}
+}
+
+// takeSulfate draws mol of dissolved gypsum from the pool, dissolving
+// exposed sulfate voxels as needed. It reports false, leaving the pool as
+// it is, when the exposed sulfate cannot cover it.
+func (e *Engine) takeSulfate(mol float64) bool {
+	for e.s.PoolSO4Mol < mol {
+		i := -1
+		for _, id := range []kinetics.ID{kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite} {
+			if d := e.dOf[id]; d >= 0 {
+				if i = e.pickSurface(int(d), false); i >= 0 {
+					break
+				}
+			}
+		}
+		if i < 0 {
+			return false
+		}
+		e.dissolveSulfate(i)
+	}
+	e.s.PoolSO4Mol -= mol
+	return true
+}
+
+// takeAFt draws mol of ettringite from its pool, dissolving exposed
+// ettringite voxels as needed, but only once the sulfate is gone.
+func (e *Engine) takeAFt(mol float64) bool {
+	if e.sulfateLeft() && e.s.PoolAFtMol < mol {
+		return false
+	}
+	d := int(e.dOf[kinetics.AFt])
+	molVox := e.voxCM3 / kinetics.Lookup(kinetics.AFt).MolarVolumeCM3()
+	for e.s.PoolAFtMol < mol {
+		i := e.pickSurface(d, false)
+		if i < 0 {
+			return false
+		}
+		e.s.PoolAFtMol += molVox
+		e.s.Reacted[kinetics.AFt]++
+		e.setPhase(i, kinetics.Water)
+	}
+	e.s.PoolAFtMol -= mol
+	return true
+}
+
+// walk moves a dissolved unit of product q from pos through pore water for
+// up to steps steps and precipitates it where it sticks. It returns the
+// final position and whether the unit precipitated. This is the hot loop of
+// the engine: it tracks coordinates to avoid divisions and draws three
+// random bits per step.
+func (e *Engine) walk(pos int32, rule *stickRule, q kinetics.ID, steps int) (int32, bool) {
+	g := e.g
+	ph := g.Phase
+	if ph[pos] != kinetics.Water {
+		p, ok := e.relocate(int(pos))
+		if !ok {
+			return pos, false
+		}
+		pos = int32(p)
+	}
+	nx, ny, nz := g.NX, g.NY, g.NZ
+	plane := nx * ny
+	x, y, z := g.Coords(int(pos))
+	var bits uint64
+	nbits := 0
+	var nb [6]int
+	for s := 0; ; s++ {
+		i := x + nx*y + plane*z
+		row, pl := nx*y, plane*z
+		xm, xp := x-1, x+1
+		if xm < 0 {
+			xm = nx - 1
+		}
+		if xp == nx {
+			xp = 0
+		}
+		ym, yp := y-1, y+1
+		if ym < 0 {
+			ym = ny - 1
+		}
+		if yp == ny {
+			yp = 0
+		}
+		zm, zp := z-1, z+1
+		if zm < 0 {
+			zm = nz - 1
+		}
+		if zp == nz {
+			zp = 0
+		}
+		nb[0], nb[1] = xm+row+pl, xp+row+pl
+		nb[2], nb[3] = x+nx*ym+pl, x+nx*yp+pl
+		nb[4], nb[5] = x+row+plane*zm, x+row+plane*zp
+		if e.sticksAt(&nb, rule) {
+			e.precipitate(i, q)
+			e.s.Steps += uint64(s)
+			return int32(i), true
+		}
+		if s == steps {
+			e.s.Steps += uint64(s)
+			return int32(i), false
+		}
+		var dir int
+		for {
+			if nbits < 3 {
+				bits, nbits = e.r.Uint64(), 64
+			}
+			dir = int(bits & 7)
+			bits >>= 3
+			nbits -= 3
+			if dir < 6 {
+				break
+			}
+		}
+		if ph[nb[dir]] != kinetics.Water {
+			continue
+		}
+		switch dir {
+		case 0:
+			x = xm
+		case 1:
+			x = xp
+		case 2:
+			y = ym
+		case 3:
+			y = yp
+		case 4:
+			z = zm
+		case 5:
+			z = zp
+		}
+	}
+}
+
+// sticksAt decides whether a unit at a pore-water voxel with face
+// neighbours nb precipitates there.
+func (e *Engine) sticksAt(nb *[6]int, r *stickRule) bool {
+	ph := e.g.Phase
+	var best float32
+	seeded := false
+	for _, j := range nb {
+		q := ph[j]
+		if r.on[q] > best {
+			best = r.on[q]
+		}
+		if r.seed[q] {
+			seeded = true
+		}
+	}
+	if seeded {
+		for _, j := range nb {
+			if v := r.seeded[ph[j]]; v > best {
+				best = v
+			}
+		}
+	}
+	if best <= 0 {
+		return false
+	}
+	return best >= 1 || e.r.Float32() < best
+}
+
+// precipitate turns pore-water voxel i into product q; C-S-H is inner
+// product inside an original grain outline and outer product elsewhere.
+func (e *Engine) precipitate(i int, q kinetics.ID) {
+	if q == kinetics.CSHOuter && e.g.Particle[i] != 0 {
+		q = kinetics.CSHInner
+	}
+	e.setPhase(i, q)
+}
+
+// relocate finds a pore-water voxel next to i, or anywhere, for a unit whose
+// voxel has been filled or emptied.
+func (e *Engine) relocate(i int) (int, bool) {
+	var nb [6]int
+	e.g.Neighbours(i, &nb)
+	off := e.r.IntN(6)
+	for k := 0; k < 6; k++ {
+		if j := nb[(k+off)%6]; e.g.Phase[j] == kinetics.Water {
+			return j, true
+		}
+	}
+	if e.s.Count[kinetics.Water] == 0 {
+		return i, false
+	}
+	for try := 0; try < 256; try++ {
+		if j := e.r.IntN(e.g.Len()); e.g.Phase[j] == kinetics.Water {
+			return j, true
+		}
+	}
+	return i, false
+}
+
+// attempt lets one dissolved unit of q try to precipitate.
+func (e *Engine) attempt(q kinetics.ID) {
+	free, fails := e.s.Free[q], e.s.Fails[q]
+	k := e.r.IntN(len(free))
+	rule := e.rules[q]
+	if fails[k] >= maxFails {
+		rule = &e.anySolid
+	}
+	pos, ok := e.walk(free[k], rule, q, e.p.WalkSteps)
+	if ok {
+		e.removeFree(q, k)
+		return
+	}
+	free[k] = pos
+	if fails[k] < 255 {
+		fails[k]++
+	}
+}
+
+func (e *Engine) addFree(q kinetics.ID, pos int32, fails uint8) {
+	e.s.Free[q] = append(e.s.Free[q], pos)
+	e.s.Fails[q] = append(e.s.Fails[q], fails)
+}
+
+func (e *Engine) removeFree(q kinetics.ID, k int) {
+	free, fails := e.s.Free[q], e.s.Fails[q]
+	last := len(free) - 1
+	free[k], fails[k] = free[last], fails[last]
+	e.s.Free[q], e.s.Fails[q] = free[:last], fails[:last]
+}
+
+// popFree removes one dissolved unit of q (the solution is well mixed, so
+// which one does not matter) and returns its position.
+func (e *Engine) popFree(q kinetics.ID) int32 {
+	k := e.r.IntN(len(e.s.Free[q]))
+	pos := e.s.Free[q][k]
+	e.removeFree(q, k)
+	return pos
+}
+
+// nucleateCSH forms a C-S-H nucleus in the water next to a silicate face.
+func (e *Engine) nucleateCSH() {
+	var weights [2]float64
+	ids := [2]kinetics.ID{kinetics.C3S, kinetics.C2S}
+	for k, id := range ids {
+		if d := e.dOf[id]; d >= 0 {
+			weights[k] = float64(e.sumW[d])
+		}
+	}
+	if weights[0]+weights[1] <= 0 {
+		return
+	}
+	k := 0
+	if e.r.Float64()*(weights[0]+weights[1]) >= weights[0] {
+		k = 1
+	}
+	d := int(e.dOf[ids[k]])
+	// Choose a face in contact with water: weight by n_w only.
+	save := e.beta[d]
+	e.beta[d] = 0
+	i := e.pickSurface(d, true)
+	e.beta[d] = save
+	if i < 0 {
+		return
+	}
+	var nb [6]int
+	e.g.Neighbours(i, &nb)
+	off := e.r.IntN(6)
+	for j := 0; j < 6; j++ {
+		if w := nb[(j+off)%6]; e.g.Phase[w] == kinetics.Water {
+			e.popFree(kinetics.CSHOuter)
+			e.precipitate(w, kinetics.CSHOuter)
+			return
+		}
+	}
+}
+
+// nucleateCH forms a CH crystal where a dissolved CH unit stands.
+func (e *Engine) nucleateCH() {
+	pos := int(e.popFree(kinetics.CH))
+	if e.g.Phase[pos] != kinetics.Water {
+		p, ok := e.relocate(pos)
+		if !ok {
+			e.addFree(kinetics.CH, int32(pos), 0)
+			return
+		}
+		pos = p
+	}
+	e.precipitate(pos, kinetics.CH)
+}
+
+// emptyOne empties the pore-water voxel at the centre of the largest pore
+// (sealed curing).
+func (e *Engine) emptyOne() {
+	for {
+		for e.s.EmptyPos < len(e.s.EmptyList) {
+			i := int(e.s.EmptyList[e.s.EmptyPos])
+			e.s.EmptyPos++
+			if e.g.Phase[i] == kinetics.Water {
+				e.setPhase(i, kinetics.Empty)
+				return
+			}
+		}
+		if e.s.Count[kinetics.Water] == 0 {
+			e.s.WaterOut = true
+			return
+		}
+		e.refreshEmptyList()
+	}
+}
+
+// refreshEmptyList ranks pore-water voxels by their city-block distance to
+// the nearest solid voxel, largest first, and keeps the top tenth.
+func (e *Engine) refreshEmptyList() {
+	n := e.g.Len()
+	ph := e.g.Phase
+	dist := make([]uint8, n)
+	const unset = 255
+	for i, p := range ph {
+		if kinetics.IsPore(p) {
+			dist[i] = unset
+		}
+	}
+	var nb [6]int
+	maxD := 0
+	for k := 1; k < unset; k++ {
+		changed := false
+		for i := 0; i < n; i++ {
+			if dist[i] != unset {
+				continue
+			}
+			e.g.Neighbours(i, &nb)
+			for _, j := range nb {
+				if int(dist[j]) == k-1 {
+					dist[i] = uint8(k)
+					changed = true
+					break
+				}
+			}
+		}
+		if !changed {
+			break
+		}
+		maxD = k
+	}
+	water := e.s.Count[kinetics.Water]
+	want := water/10 + 1
+	list := e.s.EmptyList[:0]
+	for k := unset; k >= 0 && len(list) < want; k-- {
+		if k < unset && k > maxD {
+			continue
+		}
+		for i := 0; i < n; i++ {
+			if int(dist[i]) == k && ph[i] == kinetics.Water {
+				list = append(list, int32(i))
+			}
+		}
+	}
+	e.s.EmptyList = list
+	e.s.EmptyPos = 0
+}
