@@ -1,0 +1,231 @@
+package voxel
+
+import (
+	"bytes"
+	"encoding/base64"
+	"encoding/binary"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func smallGrid(t *testing.T) *Grid {
+	g, err := NewGrid(5, 4, 3, 0.5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range g.Phase {
+		g.Phase[i] = uint8((i * 7) % 37)
+		g.Particle[i] = int32(i*i) - 3 + 3
+	}
+	return g
+}
+
+func sameGrid(t *testing.T, a, b *Grid, particles bool) {
+	t.Helper()
+	if a.NX != b.NX || a.NY != b.NY || a.NZ != b.NZ || a.VoxelUM != b.VoxelUM {
+		t.Fatalf("dims %d×%d×%d @%g vs %d×%d×%d @%g", a.NX, a.NY, a.NZ, a.VoxelUM, b.NX, b.NY, b.NZ, b.VoxelUM)
+	}
+	if !bytes.Equal(a.Phase, b.Phase) {
+		t.Fatal("phase arrays differ")
+	}
+	if particles {
+		for i := range a.Particle {
+			if a.Particle[i] != b.Particle[i] {
+				t.Fatalf("particle %d: %d vs %d", i, a.Particle[i], b.Particle[i])
+			}
+		}
+	}
+}
+
+func TestVTIRoundTrip(t *testing.T) {
+	g := smallGrid(t)
+	var buf bytes.Buffer
+	if err := WriteVTI(&buf, g); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(buf.String()[:600], `Spacing="0.5 0.5 0.5"`) {
+		t.Fatal("spacing missing")
+	}
+	h, err := ReadVTI(bytes.NewReader(buf.Bytes()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameGrid(t, g, h, true)
+}
+
+func TestVTIVariants(t *testing.T) {
+	// Files as other writers save them: inline base64 with UInt32 headers
+	// and an Int16 phase array, big endian; and inline ascii.
+	g := smallGrid(t)
+	n := g.Len()
+	body := make([]byte, 4+2*n)
+	binary.BigEndian.PutUint32(body, uint32(2*n))
+	for i, p := range g.Phase {
+		binary.BigEndian.PutUint16(body[4+2*i:], uint16(p))
+	}
+	hdr := base64.StdEncoding.EncodeToString(body[:4]) + base64.StdEncoding.EncodeToString(body[4:])
+	doc := fmt.Sprintf(`<?xml version="1.0"?>
+<VTKFile type="ImageData" version="0.1" byte_order="BigEndian">
+<ImageData WholeExtent="0 5 0 4 0 3" Origin="0 0 0" Spacing="0.5 0.5 0.5">
+<Piece Extent="0 5 0 4 0 3"><CellData>
+<DataArray type="Int16" Name="phase" format="binary">%s</DataArray>
+</CellData></Piece></ImageData></VTKFile>`, hdr)
+	h, err := ReadVTI(strings.NewReader(doc))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameGrid(t, g, h, false)
+	var sb strings.Builder
+	for _, p := range g.Phase {
+		fmt.Fprintf(&sb, "%d ", p)
+	}
+	doc = fmt.Sprintf(`<VTKFile type="ImageData" byte_order="LittleEndian">
+<ImageData WholeExtent="0 5 0 4 0 3" Spacing="0.5 0.5 0.5"><Piece Extent="0 5 0 4 0 3"><CellData>
+<DataArray type="UInt8" Name="phase" format="ascii">%s</DataArray></CellData></Piece></ImageData></VTKFile>`, sb.String())
+	if h, err = ReadVTI(strings.NewReader(doc)); err != nil {
+		t.Fatal(err)
+	}
+	sameGrid(t, g, h, false)
+	// Errors: compressed, no phase array.
+	if _, err := ReadVTI(strings.NewReader(strings.Replace(doc, `byte_order="LittleEndian"`, `compressor="vtkZLibDataCompressor"`, 1))); err == nil {
+		t.Fatal("compressed file accepted")
+	}
+	if _, err := ReadVTI(strings.NewReader(strings.Replace(doc, `Name="phase"`, `Name="other"`, 1))); err == nil {
+		t.Fatal("file without phase accepted")
+	}
+}
+
+// npyFile builds an .npy file by hand as NumPy writes it.
+func npyFile(descr string, fortran bool, shape string, data []byte) []byte {
+	f := "False"
+	if fortran {
+		f = "True"
+	}
+	dict := fmt.Sprintf("{'descr': '%s', 'fortran_order': %s, 'shape': %s, }", descr, f, shape)
+	pad := (64 - (10+len(dict)+1)%64) % 64
+	h := dict + strings.Repeat(" ", pad) + "\n"
+	out := []byte("\x93NUMPY\x01\x00")
+	out = binary.LittleEndian.AppendUint16(out, uint16(len(h)))
+	out = append(out, h...)
+	return append(out, data...)
+}
+
+func TestNPYRoundTrip(t *testing.T) {
+	g := smallGrid(t)
+	var buf bytes.Buffer
+	if err := WriteNPY(&buf, g); err != nil {
+		t.Fatal(err)
+	}
+	if (buf.Len()-g.Len())%64 != 0 {
+		t.Fatalf("header length %d not a multiple of 64", buf.Len()-g.Len())
+	}
+	if !bytes.Contains(buf.Bytes()[:128], []byte("'shape': (3, 4, 5)")) {
+		t.Fatal("shape is not (z, y, x)")
+	}
+	ph, nx, ny, nz, err := ReadNPY(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if nx != 5 || ny != 4 || nz != 3 || !bytes.Equal(ph, g.Phase) {
+		t.Fatalf("round trip: %d %d %d", nx, ny, nz)
+	}
+}
+
+func TestNPYDtypes(t *testing.T) {
+	g := smallGrid(t)
+	n := g.Len()
+	enc := func(size int, bo binary.ByteOrder, fortran bool) []byte {
+		out := make([]byte, size*n)
+		for z := 0; z < 3; z++ {
+			for y := 0; y < 4; y++ {
+				for x := 0; x < 5; x++ {
+					v := g.Phase[g.Index(x, y, z)]
+					k := x + 5*(y+4*z)
+					if fortran {
+						k = z + 3*(y+4*x)
+					}
+					b := out[k*size:]
+					switch size {
+					case 1:
+						b[0] = v
+					case 2:
+						bo.PutUint16(b, uint16(v))
+					case 4:
+						bo.PutUint32(b, uint32(v))
+					case 8:
+						bo.PutUint64(b, uint64(v))
+					}
+				}
+			}
+		}
+		return out
+	}
+	for _, c := range []struct {
+		descr   string
+		size    int
+		bo      binary.ByteOrder
+		fortran bool
+	}{
+		{"|u1", 1, binary.LittleEndian, true},
+		{"|i1", 1, binary.LittleEndian, false},
+		{"<i8", 8, binary.LittleEndian, false},
+		{">i8", 8, binary.BigEndian, true},
+		{">u2", 2, binary.BigEndian, false},
+		{"<i4", 4, binary.LittleEndian, true},
+		{"<u4", 4, binary.LittleEndian, false},
+	} {
+		file := npyFile(c.descr, c.fortran, "(3, 4, 5)", enc(c.size, c.bo, c.fortran))
+		ph, nx, ny, nz, err := ReadNPY(bytes.NewReader(file))
+		if err != nil {
+			t.Fatalf("%s fortran=%v: %v", c.descr, c.fortran, err)
+		}
+		if nx != 5 || ny != 4 || nz != 3 || !bytes.Equal(ph, g.Phase) {
+			t.Fatalf("%s fortran=%v: values differ", c.descr, c.fortran)
+		}
+	}
+	for _, bad := range [][]byte{
+		npyFile("<f8", false, "(1, 1, 2)", make([]byte, 16)),
+		npyFile("<i2", false, "(1, 1, 1)", []byte{0x00, 0x01}), // 256
+		npyFile("|u1", false, "(2, 2)", make([]byte, 4)),
+		npyFile("|u1", false, "(2, 2, 2)", make([]byte, 5)),
+		[]byte("not numpy at all"),
+	} {
+		if _, _, _, _, err := ReadNPY(bytes.NewReader(bad)); err == nil {
+			t.Fatalf("bad file accepted: %q", bad[:min(len(bad), 60)])
+		}
+	}
+}
+
+func TestReadVolume(t *testing.T) {
+	g := smallGrid(t)
+	dir := t.TempDir()
+	for _, name := range []string{"a.vti", "a.npy"} {
+		f, err := os.Create(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if strings.HasSuffix(name, "vti") {
+			err = WriteVTI(f, g)
+		} else {
+			err = WriteNPY(f, g)
+		}
+		if err != nil {
+			t.Fatal(err)
+		}
+		f.Close()
+		h, err := ReadVolume(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(h.Phase, g.Phase) || h.NX != 5 || h.NZ != 3 {
+			t.Fatalf("%s: read back differs", name)
+		}
+	}
+	os.WriteFile(filepath.Join(dir, "a.raw"), []byte{1}, 0o644)
+	if _, err := ReadVolume(filepath.Join(dir, "a.raw")); err == nil {
+		t.Fatal(".raw accepted")
+	}
+}
