@@ -75,14 +75,16 @@ func rgbDist(a, b color.RGBA) float64 {
 }
 
 // FallbackColour returns the colour used for a phase id that is not in the
-// phase table. Ids map to hues spaced by the golden angle at fixed saturation
-// and value, moved on until they keep MinColourDistance from every table
+// phase table. Ids map to hues spaced by the golden angle
+// and one of nine saturation–value pairs, moved on in hue until they keep MinColourDistance from every table
 // colour, so two unknown ids are unlikely to look alike and none looks like a
 // known phase.
 func FallbackColour(id uint8) color.RGBA {
 	h := math.Mod(float64(id)*137.50776405, 360)
+	sat := 0.45 + 0.15*float64(id%3)
+	val := 0.80 + 0.08*float64(id/3%3)
 	for try := 0; try < 360; try++ {
-		c := hsv(h, 0.55, 0.92)
+		c := hsv(h, sat, val)
 		ok := true
 		for i := range kinetics.Phases() {
 			if rgbDist(c, kinetics.Phases()[i].Colour) < MinColourDistance {

@@ -91,10 +91,10 @@ func checkSliceOptions(opt *SliceOptions) error {
 
 // sliceGeom is where the parts of a slice image go.
 type sliceGeom struct {
-	ppv          int
-	x0, y0       int // top-left pixel of the slice
-	wPX, hPX     int // slice size in pixels
-	legX, legY   float64
+	ppv           int
+	x0, y0        int // top-left pixel of the slice
+	wPX, hPX      int // slice size in pixels
+	legX, legY    float64
 	width, height int
 }
 

@@ -1,0 +1,139 @@
+package render
+
+import (
+	"bufio"
+	"fmt"
+	"image"
+	"image/png"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// WriteFileAtomic writes path through a temporary file in the same folder
+// and renames it into place, so that the file is either absent, the old
+// version, or complete. The temporary file is removed on failure.
+func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	f, err := os.CreateTemp(dir, "."+base+".tmp*")
+	if err != nil {
+		return fmt.Errorf("render: %w", err)
+	}
+	tmp := f.Name()
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(tmp)
+		}
+	}()
+	bw := bufio.NewWriterSize(f, 1<<16)
+	if err = write(bw); err != nil {
+		return fmt.Errorf("render: writing %s: %w", path, err)
+	}
+	if err = bw.Flush(); err != nil {
+		return fmt.Errorf("render: writing %s: %w", path, err)
+	}
+	if err = f.Close(); err != nil {
+		return fmt.Errorf("render: writing %s: %w", path, err)
+	}
+	if err = os.Chmod(tmp, 0o644); err != nil {
+		return fmt.Errorf("render: %w", err)
+	}
+	if err = os.Rename(tmp, path); err != nil {
+		return fmt.Errorf("render: %w", err)
+	}
+	return nil
+}
+
+// WritePNG writes img to path atomically.
+func WritePNG(path string, img image.Image) error {
+	enc := png.Encoder{CompressionLevel: png.BestSpeed}
+	return WriteFileAtomic(path, func(w io.Writer) error { return enc.Encode(w, img) })
+}
+
+// Options controls RenderVolume. The zero value renders the middle slice of
+// each of the three planes in both looks, and the 3D view in both looks.
+type Options struct {
+	// Looks to render; nil means both LookPhase and LookBSE.
+	Looks []Look
+	// Planes to slice; nil means xy, xz and yz.
+	Planes []Plane
+	// Positions gives the slice position (voxels along the normal) per
+	// plane; a plane missing from the map is cut through the middle.
+	Positions map[Plane]int
+	// PixelsPerVoxel, LegendAll, ShowAge and AgeH are as in SliceOptions.
+	PixelsPerVoxel int
+	LegendAll      bool
+	ShowAge        bool
+	AgeH           float64
+	// NoCutAway skips the 3D view.
+	NoCutAway bool
+	// Prefix starts every file name (e.g. "t0024h_").
+	Prefix string
+}
+
+// SliceFileName returns the file name RenderVolume uses for a slice:
+// prefix + "slice_xy_z050_phase.png".
+func SliceFileName(prefix string, p Plane, pos int, look Look) string {
+	_, _, an := p.axes()
+	return fmt.Sprintf("%sslice_%s_%s%03d_%s.png", prefix, p, an, pos, look)
+}
+
+// RenderVolume writes slice images and the 3D view of a volume into dir
+// (which must exist) and returns the paths written, in order. phase is
+// indexed x + nx*(y + ny*z); a length that does not match the dimensions is
+// a caller bug and panics.
+func RenderVolume(dir string, phase []uint8, nx, ny, nz int, voxelUM float64, opt Options) ([]string, error) {
+	v := Volume{Phase: phase, NX: nx, NY: ny, NZ: nz, VoxelUM: voxelUM}
+	if err := v.check(); err != nil {
+		return nil, err
+	}
+	looks := opt.Looks
+	if looks == nil {
+		looks = []Look{LookPhase, LookBSE}
+	}
+	planes := opt.Planes
+	if planes == nil {
+		planes = []Plane{PlaneXY, PlaneXZ, PlaneYZ}
+	}
+	var out []string
+	for _, pl := range planes {
+		if pl > PlaneYZ {
+			return out, fmt.Errorf("render: plane %d: must be PlaneXY (0), PlaneXZ (1) or PlaneYZ (2)", uint8(pl))
+		}
+		_, _, n := v.PlaneSize(pl)
+		pos, ok := opt.Positions[pl]
+		if !ok {
+			pos = n / 2
+		}
+		for _, look := range looks {
+			img, err := RenderSlice(v, pl, pos, SliceOptions{Look: look, PixelsPerVoxel: opt.PixelsPerVoxel,
+				LegendAll: opt.LegendAll, ShowAge: opt.ShowAge, AgeH: opt.AgeH})
+			if err != nil {
+				return out, err
+			}
+			path := filepath.Join(dir, SliceFileName(opt.Prefix, pl, pos, look))
+			if err := WritePNG(path, img); err != nil {
+				return out, err
+			}
+			out = append(out, path)
+		}
+	}
+	if !opt.NoCutAway {
+		for _, look := range looks {
+			img, err := RenderCutAway(v, CutAwayOptions{Look: look, LegendAll: opt.LegendAll, ShowAge: opt.ShowAge, AgeH: opt.AgeH})
+			if err != nil {
+				return out, err
+			}
+			path := filepath.Join(dir, fmt.Sprintf("%scutaway_%s.png", opt.Prefix, look))
+			if err := WritePNG(path, img); err != nil {
+				return out, err
+			}
+			out = append(out, path)
+		}
+	}
+	return out, nil
+}
