@@ -120,7 +120,7 @@ func RenderCutAway(v Volume, opt CutAwayOptions) (*image.RGBA, error) {
 	probe := gg.NewContext(1, 1)
 	// The legend lists the phases seen on the faces, so the faces are
 	// painted first into a buffer and copied into the final image.
-	bw, bh := int(math.Ceil(boxW+marginPX+60)), int(math.Ceil(top+boxH+30+marginPX))
+	bw, bh := int(math.Ceil(marginPX+30+boxW+120)), int(math.Ceil(top+boxH+30+marginPX))
 	faces := image.NewRGBA(image.Rect(0, 0, bw, bh))
 	shade := [3]float64{ShadeX, ShadeY, ShadeTop}
 	nn := [3]int{v.NX, v.NY, v.NZ}
@@ -129,7 +129,7 @@ func RenderCutAway(v Volume, opt CutAwayOptions) (*image.RGBA, error) {
 			// Ray through the pixel centre: the points with z = 0 and the
 			// direction (1, 1, 1).
 			A := (float64(px) + 0.5 - p.u0) / (cos30 * s) // x − y
-			B := 2 * (float64(py) + 0.5 - p.v0) / s      // x + y − 2z at z = 0
+			B := 2 * (float64(py) + 0.5 - p.v0) / s       // x + y − 2z at z = 0
 			o := [3]float64{(A + B) / 2, (B - A) / 2, 0}
 			bestT := math.Inf(-1)
 			var id uint8

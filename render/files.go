@@ -50,9 +50,11 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 
 // WritePNG writes img to path atomically.
 func WritePNG(path string, img image.Image) error {
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	return WriteFileAtomic(path, func(w io.Writer) error { return enc.Encode(w, img) })
+	return WriteFileAtomic(path, func(w io.Writer) error { return pngEnc.Encode(w, img) })
 }
+
+// pngEnc favours speed: slices are flat colour and compress well anyway.
+var pngEnc = png.Encoder{CompressionLevel: png.BestSpeed}
 
 // Options controls RenderVolume. The zero value renders the middle slice of
 // each of the three planes in both looks, and the 3D view in both looks.

@@ -140,12 +140,12 @@ func TestMeanZFromFormulas(t *testing.T) {
 		formula map[string]float64
 		tol     float64
 	}{
-		{kinetics.C3S, map[string]float64{"Ca": 3, "Si": 1, "O": 5}, 0.02},             // Ca3SiO5
-		{kinetics.C2S, map[string]float64{"Ca": 2, "Si": 1, "O": 4}, 0.02},             // Ca2SiO4
-		{kinetics.C3A, map[string]float64{"Ca": 3, "Al": 2, "O": 6}, 0.02},             // Ca3Al2O6
-		{kinetics.CH, map[string]float64{"Ca": 1, "O": 2, "H": 2}, 0.02},               // Ca(OH)2
-		{kinetics.Gypsum, map[string]float64{"Ca": 1, "S": 1, "O": 6, "H": 4}, 0.02},   // CaSO4·2H2O
-		{kinetics.Calcite, map[string]float64{"Ca": 1, "C": 1, "O": 3}, 0.02},          // CaCO3
+		{kinetics.C3S, map[string]float64{"Ca": 3, "Si": 1, "O": 5}, 0.02},            // Ca3SiO5
+		{kinetics.C2S, map[string]float64{"Ca": 2, "Si": 1, "O": 4}, 0.02},            // Ca2SiO4
+		{kinetics.C3A, map[string]float64{"Ca": 3, "Al": 2, "O": 6}, 0.02},            // Ca3Al2O6
+		{kinetics.CH, map[string]float64{"Ca": 1, "O": 2, "H": 2}, 0.02},              // Ca(OH)2
+		{kinetics.Gypsum, map[string]float64{"Ca": 1, "S": 1, "O": 6, "H": 4}, 0.02},  // CaSO4·2H2O
+		{kinetics.Calcite, map[string]float64{"Ca": 1, "C": 1, "O": 3}, 0.02},         // CaCO3
 		{kinetics.C4AF, map[string]float64{"Ca": 4, "Al": 2, "Fe": 2, "O": 10}, 0.02}, // Ca4Al2Fe2O10
 	}
 	for _, c := range cases {

@@ -3,8 +3,8 @@ package render
 import (
 	"bytes"
 	"fmt"
-	"io"
 	"image/color"
+	"io"
 	"math"
 	"path/filepath"
 	"sort"
