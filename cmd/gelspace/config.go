@@ -1,0 +1,346 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"reflect"
+	"sort"
+	"strings"
+
+	"gelspace/configs"
+	"gelspace/kinetics"
+)
+
+// Config is a run's settings, as read from a TOML file (keys in the toml
+// tags; DESIGN.md lists the contract). Absent keys keep the values of
+// Defaults. Add a key by adding a field with its tag and a check in
+// Validate.
+type Config struct {
+	Seed   int64        `toml:"seed"` // random seed, ≥ 0
+	Cement CementConfig `toml:"cement"`
+	PSD    PSDConfig    `toml:"psd"`
+	Mix    MixConfig    `toml:"mix"`
+	Box    BoxConfig    `toml:"box"`
+	Pack   PackConfig   `toml:"pack"`
+	Curing CuringConfig `toml:"curing"`
+	Output OutputConfig `toml:"output"`
+
+	Source string `toml:"-"` // where the config came from, for messages
+	Dir    string `toml:"-"` // folder that relative paths are read from
+	raw    *Raw
+}
+
+// CementConfig describes the powder: phases OR oxides, in mass percent.
+type CementConfig struct {
+	Name string `toml:"name"` // label for reports
+
+	// Phases: mass percent by phase key (c3s, c2s, c3a, c4af, gypsum,
+	// hemihydrate, anhydrite, calcite, inert); normalised to 100.
+	Phases map[string]float64 `toml:"phases"`
+
+	// Oxides: mill-certificate analysis (cao, sio2, al2o3, fe2o3, so3,
+	// free_cao, mgo); phases come from Bogue.
+	Oxides map[string]float64 `toml:"oxides"`
+
+	// Sulfate: how the SO3 of an oxide analysis is carried, as shares of
+	// SO3 (gypsum, hemihydrate, anhydrite; summing to 1). Absent: all
+	// gypsum.
+	Sulfate map[string]float64 `toml:"sulfate"`
+}
+
+// RosinRammlerConfig holds the Rosin–Rammler parameters.
+type RosinRammlerConfig struct {
+	XUM float64 `toml:"x_um"` // characteristic size x′, µm
+	N   float64 `toml:"n"`    // uniformity
+}
+
+// PSDConfig is the particle size distribution: rosin_rammler OR table.
+type PSDConfig struct {
+	RosinRammler *RosinRammlerConfig `toml:"rosin_rammler"`
+	Table        string              `toml:"table"` // CSV size_um,passing_percent, relative to the config
+}
+
+// MixConfig holds the proportions.
+type MixConfig struct {
+	WC float64 `toml:"w_c"` // water-to-cement mass ratio
+}
+
+// BoxConfig is the voxel box.
+type BoxConfig struct {
+	Voxels  int     `toml:"voxels"`   // edge length in voxels
+	VoxelUM float64 `toml:"voxel_um"` // voxel edge in µm
+}
+
+// PackConfig steers the packing of the initial microstructure.
+type PackConfig struct {
+	// CorrelationUM is the size of the phase domains inside clinker
+	// grains, µm.
+	CorrelationUM float64 `toml:"correlation_um"`
+	// OnePhasePerParticle makes every clinker grain a single phase.
+	OnePhasePerParticle bool `toml:"one_phase_per_particle"`
+	// GapVoxels keeps this many water voxels between grains (dispersed);
+	// 0 lets grains touch (flocculated).
+	GapVoxels int `toml:"gap_voxels"`
+}
+
+// CuringConfig is the curing regime.
+type CuringConfig struct {
+	Mode         string  `toml:"mode"`          // "saturated" or "sealed"
+	TemperatureC float64 `toml:"temperature_c"` // isothermal temperature, °C
+	UntilH       float64 `toml:"until_h"`       // age at which the run stops, h
+}
+
+// OutputConfig says what to record.
+type OutputConfig struct {
+	TimesH []float64 `toml:"times_h"` // ages of the output rows, h
+}
+
+// Defaults returns the values of keys a config leaves out. The cement,
+// the PSD and mix.w_c have no default: a config must give them.
+func Defaults() *Config {
+	return &Config{
+		Seed:   1,
+		Box:    BoxConfig{Voxels: 100, VoxelUM: 1},
+		Pack:   PackConfig{CorrelationUM: 3},
+		Curing: CuringConfig{Mode: "saturated", TemperatureC: 20, UntilH: 672},
+		Output: OutputConfig{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}},
+	}
+}
+
+// DefaultConfigName names the embedded default in messages.
+const DefaultConfigName = "default.toml (embedded)"
+
+// LoadConfig reads the config at path (the embedded default when path is
+// ""), applies the KEY=VALUE overrides in sets, in order, and validates
+// the result. Errors are *InputError.
+func LoadConfig(path string, sets []string) (*Config, error) {
+	raw, err := LoadRaw(path)
+	if err != nil {
+		return nil, err
+	}
+	for _, s := range sets {
+		if err := raw.Set(s); err != nil {
+			return nil, err
+		}
+	}
+	cfg, err := raw.Decode()
+	if err != nil {
+		return nil, err
+	}
+	if err := cfg.Validate(); err != nil {
+		return nil, err
+	}
+	return cfg, nil
+}
+
+// LoadRaw reads and parses a config file (the embedded default when path
+// is "") without checking it.
+func LoadRaw(path string) (*Raw, error) {
+	if path == "" {
+		return ParseRaw(DefaultConfigName, ".", configs.Default())
+	}
+	data, err := os.ReadFile(path)
+	if err != nil {
+		msg := err.Error()
+		if errors.Is(err, fs.ErrNotExist) {
+			msg = "no such file"
+		}
+		return nil, &InputError{File: path, Msg: "cannot read config: " + msg}
+	}
+	return ParseRaw(path, filepath.Dir(path), data)
+}
+
+// Allowed ranges, checked by Validate.
+const (
+	minWC, maxWC           = 0.20, 1.50
+	minVoxels, maxVoxelsUI = 10, 1000
+	minVoxelUM, maxVoxelUM = 0.05, 20.0
+	minTempC, maxTempC     = -10.0, 95.0
+	maxUntilH              = 100000.0
+	minCorrUM, maxCorrUM   = 0.1, 1000.0
+	// bytesPerVoxel is the memory a packed box takes: 1 byte of phase and
+	// 4 of particle id, and under 1 of working space.
+	bytesPerVoxel = 6
+)
+
+// Validate checks every key's range and the combinations (phases or
+// oxides, rosin_rammler or table). Its errors name the key, its line and
+// the allowed range.
+func (c *Config) Validate() error {
+	r := c.raw
+	if r == nil {
+		r = &Raw{Name: c.Source, lines: map[string]int{}, sets: map[string]string{}}
+	}
+	if c.Seed < 0 {
+		return r.errAt("seed", "%d: must be ≥ 0", c.Seed)
+	}
+	// [cement]
+	switch {
+	case c.Cement.Phases == nil && c.Cement.Oxides == nil:
+		return r.errAt("cement", "missing: give cement.phases or cement.oxides (mass percent)")
+	case c.Cement.Phases != nil && c.Cement.Oxides != nil:
+		return r.errAt("cement.oxides", "give cement.phases or cement.oxides, not both")
+	case c.Cement.Phases != nil:
+		if _, err := kinetics.NewComposition(c.Cement.Phases); err != nil {
+			return r.errAt(keyOf("cement.phases", err, c.Cement.Phases), "%v", err)
+		}
+		if c.Cement.Sulfate != nil {
+			return r.errAt("cement.sulfate", "applies to cement.oxides only: with cement.phases give the sulfate phases directly")
+		}
+	default:
+		o, err := kinetics.OxidesFromMap(c.Cement.Oxides)
+		if err != nil {
+			return r.errAt(keyOf("cement.oxides", err, c.Cement.Oxides), "%v", err)
+		}
+		split, err := kinetics.SulfateSplitFromMap(c.Cement.Sulfate)
+		if err != nil {
+			return r.errAt(keyOf("cement.sulfate", err, c.Cement.Sulfate), "%v", err)
+		}
+		if _, _, err := kinetics.CompositionFromOxides(o, split); err != nil {
+			return r.errAt("cement.oxides", "%v", err)
+		}
+	}
+	// [psd]
+	switch {
+	case c.PSD.RosinRammler == nil && c.PSD.Table == "":
+		return r.errAt("psd", "missing: give psd.rosin_rammler = { x_um = …, n = … } or psd.table = \"file.csv\"")
+	case c.PSD.RosinRammler != nil && c.PSD.Table != "":
+		return r.errAt("psd.table", "give psd.rosin_rammler or psd.table, not both")
+	case c.PSD.RosinRammler != nil:
+		rr := c.PSD.RosinRammler
+		if !(rr.XUM > 0 && rr.XUM <= 1000) {
+			return r.errAt("psd.rosin_rammler.x_um", "%g µm: must be > 0 and ≤ 1000", rr.XUM)
+		}
+		if !(rr.N >= 0.3 && rr.N <= 5) {
+			return r.errAt("psd.rosin_rammler.n", "%g: must be between 0.3 and 5", rr.N)
+		}
+	}
+	// [mix]
+	if !(c.Mix.WC >= minWC && c.Mix.WC <= maxWC) {
+		if c.Mix.WC == 0 {
+			return r.errAt("mix.w_c", "missing or 0: must be between %g and %g", minWC, maxWC)
+		}
+		return r.errAt("mix.w_c", "%g: must be between %g and %g", c.Mix.WC, minWC, maxWC)
+	}
+	// [box]
+	if !(c.Box.VoxelUM >= minVoxelUM && c.Box.VoxelUM <= maxVoxelUM) {
+		return r.errAt("box.voxel_um", "%g µm: must be between %g and %g", c.Box.VoxelUM, minVoxelUM, maxVoxelUM)
+	}
+	limit := maxBoxVoxels()
+	if c.Box.Voxels < minVoxels || c.Box.Voxels > limit {
+		msg := fmt.Sprintf("%d: must be between %d and %d", c.Box.Voxels, minVoxels, limit)
+		if c.Box.Voxels > limit {
+			need := float64(c.Box.Voxels) * float64(c.Box.Voxels) * float64(c.Box.Voxels) * bytesPerVoxel
+			msg += fmt.Sprintf(" (a box of %d³ voxels needs about %.1f GB; %.1f GB of memory is available)", c.Box.Voxels, need/1e9, float64(availableBytes())/1e9)
+		}
+		return r.errAt("box.voxels", "%s", msg)
+	}
+	// [pack]
+	if !(c.Pack.CorrelationUM >= minCorrUM && c.Pack.CorrelationUM <= maxCorrUM) {
+		return r.errAt("pack.correlation_um", "%g µm: must be between %g and %g", c.Pack.CorrelationUM, minCorrUM, maxCorrUM)
+	}
+	if c.Pack.GapVoxels < 0 || c.Pack.GapVoxels > 5 {
+		return r.errAt("pack.gap_voxels", "%d: must be between 0 and 5", c.Pack.GapVoxels)
+	}
+	// [curing]
+	if c.Curing.Mode != "saturated" && c.Curing.Mode != "sealed" {
+		return r.errAt("curing.mode", "%q: must be \"saturated\" or \"sealed\"", c.Curing.Mode)
+	}
+	if !(c.Curing.TemperatureC >= minTempC && c.Curing.TemperatureC <= maxTempC) {
+		return r.errAt("curing.temperature_c", "%g °C: must be between %g and %g", c.Curing.TemperatureC, minTempC, maxTempC)
+	}
+	if !(c.Curing.UntilH > 0 && c.Curing.UntilH <= maxUntilH) {
+		return r.errAt("curing.until_h", "%g h: must be > 0 and ≤ %g", c.Curing.UntilH, maxUntilH)
+	}
+	// [output]
+	prev := 0.0
+	for i, t := range c.Output.TimesH {
+		if !(t > prev) || math.IsInf(t, 0) {
+			return r.errAt("output.times_h", "entry %d = %g h: times must be > 0 and increasing", i+1, t)
+		}
+		if t > c.Curing.UntilH {
+			return r.errAt("output.times_h", "entry %d = %g h: must not exceed curing.until_h = %g", i+1, t, c.Curing.UntilH)
+		}
+		prev = t
+	}
+	return nil
+}
+
+// keyOf picks the sub-key a map error names ("phase \"c2s\" = …") so the
+// message points at its line.
+func keyOf(table string, err error, m map[string]float64) string {
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		if strings.Contains(err.Error(), fmt.Sprintf("%q", k)) {
+			return table + "." + k
+		}
+	}
+	return table
+}
+
+// availableBytes estimates the memory a box may use: MemAvailable from
+// /proc/meminfo, or 4 GB where that cannot be read.
+func availableBytes() int64 {
+	data, err := os.ReadFile("/proc/meminfo")
+	if err == nil {
+		for _, line := range strings.Split(string(data), "\n") {
+			var kb int64
+			if n, _ := fmt.Sscanf(line, "MemAvailable: %d kB", &kb); n == 1 && kb > 0 {
+				return kb * 1024
+			}
+		}
+	}
+	return 4e9
+}
+
+// maxBoxVoxels is the largest box edge that fits in memory (and at most
+// maxVoxelsUI).
+func maxBoxVoxels() int {
+	n := int(math.Cbrt(float64(availableBytes()) / bytesPerVoxel))
+	return min(n, maxVoxelsUI)
+}
+
+// knownKeys lists the keys allowed beside an unknown dotted key, from the
+// Config struct's toml tags.
+func knownKeys(key string) []string {
+	parts := strings.Split(key, ".")
+	t := reflect.TypeOf(Config{})
+	for _, p := range parts[:len(parts)-1] {
+		f, ok := fieldByTag(t, p)
+		if !ok {
+			break
+		}
+		ft := f.Type
+		if ft.Kind() == reflect.Pointer {
+			ft = ft.Elem()
+		}
+		if ft.Kind() != reflect.Struct {
+			break
+		}
+		t = ft
+	}
+	var out []string
+	for i := 0; i < t.NumField(); i++ {
+		if tag := t.Field(i).Tag.Get("toml"); tag != "" && tag != "-" {
+			out = append(out, tag)
+		}
+	}
+	return out
+}
+
+func fieldByTag(t reflect.Type, tag string) (reflect.StructField, bool) {
+	for i := 0; i < t.NumField(); i++ {
+		if t.Field(i).Tag.Get("toml") == tag {
+			return t.Field(i), true
+		}
+	}
+	return reflect.StructField{}, false
+}

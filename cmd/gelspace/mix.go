@@ -1,0 +1,194 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"text/tabwriter"
+
+	"gelspace/kinetics"
+	"gelspace/voxel"
+)
+
+// Mix is a config resolved into chemistry and sizes.
+type Mix struct {
+	Cfg     *Config
+	Comp    *kinetics.Composition
+	Bogue   *kinetics.BoguePhases // nil when the phases were given
+	PSD     *voxel.PSD
+	Classes *voxel.Classes
+	// SolidFraction is the initial solid volume fraction at Cfg.Mix.WC.
+	SolidFraction float64
+	// Paste is the volume fraction of each phase in the fresh paste.
+	Paste [kinetics.NumIDs]float64
+}
+
+// Resolve turns a validated config into a Mix: the composition (Bogue
+// where oxides are given), the PSD (reading the table file) and its
+// digitisation for the box.
+func Resolve(cfg *Config) (*Mix, error) {
+	r := cfg.raw
+	if r == nil {
+		r = &Raw{Name: cfg.Source, lines: map[string]int{}, sets: map[string]string{}}
+	}
+	m := &Mix{Cfg: cfg}
+	var err error
+	if cfg.Cement.Phases != nil {
+		if m.Comp, err = kinetics.NewComposition(cfg.Cement.Phases); err != nil {
+			return nil, r.errAt("cement.phases", "%v", err)
+		}
+	} else {
+		o, err := kinetics.OxidesFromMap(cfg.Cement.Oxides)
+		if err != nil {
+			return nil, r.errAt("cement.oxides", "%v", err)
+		}
+		split, err := kinetics.SulfateSplitFromMap(cfg.Cement.Sulfate)
+		if err != nil {
+			return nil, r.errAt("cement.sulfate", "%v", err)
+		}
+		c, b, err := kinetics.CompositionFromOxides(o, split)
+		if err != nil {
+			return nil, r.errAt("cement.oxides", "%v", err)
+		}
+		m.Comp, m.Bogue = c, &b
+	}
+	if rr := cfg.PSD.RosinRammler; rr != nil {
+		if m.PSD, err = voxel.RosinRammler(rr.XUM, rr.N); err != nil {
+			return nil, r.errAt("psd.rosin_rammler", "%v", err)
+		}
+	} else {
+		path := cfg.PSD.Table
+		if !filepath.IsAbs(path) {
+			path = filepath.Join(cfg.Dir, path)
+		}
+		f, err := os.Open(path)
+		if err != nil {
+			return nil, r.errAt("psd.table", "cannot read %s: %v", path, err)
+		}
+		m.PSD, err = voxel.ReadPSDTable(f)
+		f.Close()
+		if err != nil {
+			return nil, r.errAt("psd.table", "%s: %v", path, err)
+		}
+	}
+	if m.Classes, err = m.PSD.Classes(cfg.Box.VoxelUM, cfg.Box.Voxels); err != nil {
+		return nil, r.errAt("psd", "%v", err)
+	}
+	m.SolidFraction = m.Comp.SolidVolumeFraction(cfg.Mix.WC)
+	m.Paste = m.Comp.PasteVolumeFractions(cfg.Mix.WC)
+	return m, nil
+}
+
+// MixReport is the JSON form of a resolved mix (gelspace mix --json, and
+// part of pack.json).
+type MixReport struct {
+	Source        string        `json:"source"`
+	Cement        string        `json:"cement"`
+	WC            float64       `json:"w_c"`
+	DensityGPerCM float64       `json:"density_g_per_cm3"`
+	SolidFraction float64       `json:"initial_solid_fraction"`
+	Phases        []PhaseReport `json:"phases"`
+	Bogue         *BogueReport  `json:"bogue"`
+	PSD           PSDReport     `json:"psd"`
+	Box           BoxConfig     `json:"box"`
+}
+
+// PhaseReport is one phase of the powder.
+type PhaseReport struct {
+	Key            string  `json:"key"`
+	Name           string  `json:"name"`
+	Role           string  `json:"role"`
+	DensityGPerCM3 float64 `json:"density_g_per_cm3"`
+	MassPercent    float64 `json:"mass_percent"`
+	VolumePercent  float64 `json:"volume_percent"`       // of the powder
+	PastePercent   float64 `json:"paste_volume_percent"` // of the fresh paste
+}
+
+// BogueReport is the potential composition from the oxide analysis, mass %
+// of the cement before the sulfate carrier and normalisation.
+type BogueReport struct {
+	C3S          float64 `json:"c3s"`
+	C2S          float64 `json:"c2s"`
+	C3A          float64 `json:"c3a"`
+	C4AF         float64 `json:"c4af"`
+	SolidSoluton bool    `json:"ferrite_solid_solution"`
+}
+
+// PSDReport holds the PSD statistics.
+type PSDReport struct {
+	Description           string  `json:"description"`
+	D10UM                 float64 `json:"d10_um"`
+	D50UM                 float64 `json:"d50_um"`
+	D90UM                 float64 `json:"d90_um"`
+	SurfaceSpheresM2PerKg float64 `json:"specific_surface_spheres_m2_per_kg"`
+	SurfaceVoxelM2PerKg   float64 `json:"specific_surface_digitised_m2_per_kg"`
+	FinerThanVoxel        float64 `json:"finer_than_voxel_fraction"`
+	FineRepresentation    string  `json:"fine_representation"`
+	Truncated             float64 `json:"truncated_fraction"`
+	MaxDiameterVoxels     int     `json:"max_diameter_voxels"`
+	MaxDiameterUM         float64 `json:"max_diameter_um"`
+	DigitisedMedianVoxels int     `json:"digitised_median_voxels"`
+}
+
+// Report returns the JSON form of the mix.
+func (m *Mix) Report() MixReport {
+	rho := m.Comp.DensityGPerCM3()
+	vol := m.Comp.VolumeFractions()
+	rep := MixReport{Source: m.Cfg.Source, Cement: m.Cfg.Cement.Name, WC: m.Cfg.Mix.WC,
+		DensityGPerCM: rho, SolidFraction: m.SolidFraction, Box: m.Cfg.Box}
+	for _, id := range m.Comp.Present() {
+		p := kinetics.Lookup(id)
+		rep.Phases = append(rep.Phases, PhaseReport{Key: p.Key, Name: p.Name, Role: p.Role.String(),
+			DensityGPerCM3: p.DensityGPerCM3, MassPercent: 100 * m.Comp.Mass(id),
+			VolumePercent: 100 * vol[id], PastePercent: 100 * m.Paste[id]})
+	}
+	if b := m.Bogue; b != nil {
+		rep.Bogue = &BogueReport{C3S: b.C3S, C2S: b.C2S, C3A: b.C3A, C4AF: b.C4AF, SolidSoluton: b.SS}
+	}
+	c := m.Classes
+	rep.PSD = PSDReport{Description: m.PSD.String(), D10UM: m.PSD.QuantileUM(0.1), D50UM: m.PSD.MedianUM(),
+		D90UM: m.PSD.QuantileUM(0.9), SurfaceSpheresM2PerKg: m.PSD.SpecificSurfaceM2PerKg(rho),
+		SurfaceVoxelM2PerKg: c.SpecificSurfaceM2PerKg(rho), FinerThanVoxel: c.FinerThanVoxel,
+		FineRepresentation: "merged into the 1-voxel class (single-voxel particles)",
+		Truncated:          c.Truncated, MaxDiameterVoxels: c.MaxDiameter,
+		MaxDiameterUM: float64(c.MaxDiameter) * c.VoxelUM, DigitisedMedianVoxels: c.MedianDiameter()}
+	return rep
+}
+
+// printMix writes the human form of the report.
+func printMix(w io.Writer, rep MixReport) {
+	fmt.Fprintf(w, "config   %s\n", rep.Source)
+	if rep.Cement != "" {
+		fmt.Fprintf(w, "cement   %s\n", rep.Cement)
+	}
+	fmt.Fprintf(w, "w/c      %g\ndensity  %.3f g/cm³ (powder)\nsolids   %.4f initial solid volume fraction\n\n", rep.WC, rep.DensityGPerCM, rep.SolidFraction)
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "phase\trole\tρ g/cm³\tmass %\tvolume %\tpaste vol %\t")
+	for _, p := range rep.Phases {
+		fmt.Fprintf(tw, "%s\t%s\t%.2f\t%.2f\t%.2f\t%.2f\t\n", p.Name, p.Role, p.DensityGPerCM3, p.MassPercent, p.VolumePercent, p.PastePercent)
+	}
+	fmt.Fprintf(tw, "water\tpore\t%.3f\t\t\t%.2f\t\n", kinetics.WaterDensity, 100*(1-rep.SolidFraction))
+	tw.Flush()
+	if b := rep.Bogue; b != nil {
+		branch := "A/F ≥ 0.64"
+		if b.SolidSoluton {
+			branch = "A/F < 0.64, ferrite solid solution reported as C4AF"
+		}
+		fmt.Fprintf(w, "\nBogue (ASTM C150 Annex A1, %s), mass %% of cement: C3S %.1f  C2S %.1f  C3A %.1f  C4AF %.1f\n", branch, b.C3S, b.C2S, b.C3A, b.C4AF)
+	}
+	p := rep.PSD
+	fmt.Fprintf(w, "\nPSD      %s\n", p.Description)
+	fmt.Fprintf(w, "         d10 %.2f µm, d50 %.2f µm, d90 %.2f µm\n", p.D10UM, p.D50UM, p.D90UM)
+	fmt.Fprintf(w, "surface  %.0f m²/kg as smooth spheres, %.0f m²/kg digitised (voxel faces)\n", p.SurfaceSpheresM2PerKg, p.SurfaceVoxelM2PerKg)
+	fmt.Fprintf(w, "box      %d³ voxels of %g µm; particles 1 to %d voxels (≤ %g µm, half the edge)\n", rep.Box.Voxels, rep.Box.VoxelUM, p.MaxDiameterVoxels, p.MaxDiameterUM)
+	fmt.Fprintf(w, "fines    %.2f %% finer than one voxel, %s\n", 100*p.FinerThanVoxel, p.FineRepresentation)
+	fmt.Fprintf(w, "coarse   %.2f %% coarser than the largest particle, left out (the rest scaled up)\n", 100*p.Truncated)
+}
+
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}

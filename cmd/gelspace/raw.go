@@ -1,0 +1,248 @@
+package main
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"regexp"
+	"sort"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+)
+
+// Raw is a config as a tree of TOML values (tables are map[string]any),
+// before it is checked against the Config schema, with the line of every
+// key in its source. Sweeps build on it: parse a base file once, Set the
+// axis keys of each point, then Decode.
+type Raw struct {
+	Name string         // file name for messages
+	Dir  string         // folder that relative paths in the config are read from
+	Tree map[string]any // the values
+	// lines maps a dotted key to its line in the source file; keys that
+	// came from Set map to 0.
+	lines map[string]int
+	// sets records the KEY=VALUE text of each Set, by key.
+	sets map[string]string
+}
+
+// InputError is bad input: a config, a table or a flag. It is printed as
+// one line naming the file (or the flag), the line, the key and the
+// allowed range, and ends the program with exit status 2.
+type InputError struct {
+	File string // config file, table file or "--set"
+	Line int    // 0 when not known
+	Key  string // dotted config key, or ""
+	Msg  string
+}
+
+func (e *InputError) Error() string {
+	var b strings.Builder
+	b.WriteString(e.File)
+	if e.Line > 0 {
+		fmt.Fprintf(&b, ":%d", e.Line)
+	}
+	if e.Key != "" {
+		fmt.Fprintf(&b, ": %s", e.Key)
+	}
+	b.WriteString(": ")
+	b.WriteString(e.Msg)
+	return b.String()
+}
+
+// ParseRaw parses TOML text. A syntax error comes back as an InputError
+// with the line.
+func ParseRaw(name, dir string, data []byte) (*Raw, error) {
+	tree := map[string]any{}
+	if _, err := toml.NewDecoder(bytes.NewReader(data)).Decode(&tree); err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			return nil, &InputError{File: name, Line: pe.Position.Line, Msg: "malformed TOML: " + pe.Message}
+		}
+		return nil, &InputError{File: name, Msg: "malformed TOML: " + err.Error()}
+	}
+	return &Raw{Name: name, Dir: dir, Tree: tree, lines: keyLines(data), sets: map[string]string{}}, nil
+}
+
+// Set applies one KEY=VALUE override: KEY is dotted ("mix.w_c",
+// "cement.phases.c3s"), VALUE is a TOML value (0.4, "sealed", [1, 2],
+// { x_um = 10, n = 1 }); a VALUE that is not valid TOML is taken as a
+// string. Intermediate tables are created; a value that is not a table
+// cannot take a sub-key.
+func (r *Raw) Set(kv string) error {
+	k, v, ok := strings.Cut(kv, "=")
+	k = strings.TrimSpace(k)
+	if !ok || k == "" {
+		return &InputError{File: "--set", Key: kv, Msg: "must be KEY=VALUE with a dotted KEY (mix.w_c=0.4)"}
+	}
+	path := strings.Split(k, ".")
+	for _, p := range path {
+		if p == "" {
+			return &InputError{File: "--set", Key: k, Msg: "empty part in the dotted key"}
+		}
+	}
+	var val any
+	tmp := map[string]any{}
+	if _, err := toml.Decode("v = "+strings.TrimSpace(v), &tmp); err == nil {
+		val = tmp["v"]
+	} else {
+		val = strings.TrimSpace(v)
+	}
+	m := r.Tree
+	for i, p := range path[:len(path)-1] {
+		next, exists := m[p]
+		if !exists {
+			nm := map[string]any{}
+			m[p] = nm
+			m = nm
+			continue
+		}
+		nm, isMap := next.(map[string]any)
+		if !isMap {
+			return &InputError{File: "--set", Key: k, Msg: fmt.Sprintf("%s is a value, not a table", strings.Join(path[:i+1], "."))}
+		}
+		m = nm
+	}
+	m[path[len(path)-1]] = val
+	r.sets[k] = kv
+	return nil
+}
+
+// Line returns the source line of a dotted key, or of its nearest parent,
+// or 0.
+func (r *Raw) Line(key string) int {
+	for k := key; k != ""; {
+		if _, fromSet := r.sets[k]; fromSet {
+			return 0
+		}
+		if l, ok := r.lines[k]; ok {
+			return l
+		}
+		i := strings.LastIndexByte(k, '.')
+		if i < 0 {
+			break
+		}
+		k = k[:i]
+	}
+	return 0
+}
+
+// errAt returns an InputError for key, located in the file or in --set.
+func (r *Raw) errAt(key, format string, args ...any) *InputError {
+	msg := fmt.Sprintf(format, args...)
+	for k := key; k != ""; {
+		if kv, ok := r.sets[k]; ok {
+			return &InputError{File: "--set " + kv, Key: key, Msg: msg}
+		}
+		i := strings.LastIndexByte(k, '.')
+		if i < 0 {
+			break
+		}
+		k = k[:i]
+	}
+	return &InputError{File: r.Name, Line: r.Line(key), Key: key, Msg: msg}
+}
+
+var lastKeyRE = regexp.MustCompile(`last key "([^"]*)"\): (.*)$`)
+
+// Decode checks the tree against the Config schema (unknown keys and
+// wrong types are errors with their line) and returns the config with
+// defaults for absent keys. It does not check ranges: see Config.Validate.
+func (r *Raw) Decode() (*Config, error) {
+	var buf bytes.Buffer
+	if err := toml.NewEncoder(&buf).Encode(r.Tree); err != nil {
+		return nil, &InputError{File: r.Name, Msg: "cannot re-encode config: " + err.Error()}
+	}
+	cfg := Defaults()
+	md, err := toml.NewDecoder(&buf).Decode(cfg)
+	if err != nil {
+		if m := lastKeyRE.FindStringSubmatch(err.Error()); m != nil {
+			return nil, r.errAt(m[1], "wrong type: %s", m[2])
+		}
+		return nil, &InputError{File: r.Name, Msg: err.Error()}
+	}
+	if und := md.Undecoded(); len(und) > 0 {
+		keys := make([]string, len(und))
+		for i, k := range und {
+			keys[i] = k.String()
+		}
+		sort.Slice(keys, func(i, j int) bool {
+			return r.Line(keys[i]) < r.Line(keys[j]) || (r.Line(keys[i]) == r.Line(keys[j]) && keys[i] < keys[j])
+		})
+		k := keys[0]
+		return nil, r.errAt(k, "unknown key (known keys: %s)", strings.Join(knownKeys(k), ", "))
+	}
+	cfg.Source, cfg.Dir, cfg.raw = r.Name, r.Dir, r
+	return cfg, nil
+}
+
+// keyLines finds the line of each key of a TOML text: table headers, key =
+// value lines and the keys of inline tables on them. It is a locator for
+// messages, not a parser: the text has already parsed.
+func keyLines(data []byte) map[string]int {
+	lines := map[string]int{}
+	table := ""
+	for n, line := range strings.Split(string(data), "\n") {
+		s := stripComment(line)
+		s = strings.TrimSpace(s)
+		if s == "" {
+			continue
+		}
+		if strings.HasPrefix(s, "[") {
+			name := strings.Trim(s, "[] \t")
+			table = cleanKey(name)
+			if _, ok := lines[table]; !ok {
+				lines[table] = n + 1
+			}
+			continue
+		}
+		k, v, ok := strings.Cut(s, "=")
+		if !ok {
+			continue
+		}
+		full := joinKey(table, cleanKey(k))
+		if _, seen := lines[full]; !seen {
+			lines[full] = n + 1
+		}
+		v = strings.TrimSpace(v)
+		if strings.HasPrefix(v, "{") {
+			for _, m := range inlineKeyRE.FindAllStringSubmatch(v, -1) {
+				lines[joinKey(full, cleanKey(m[1]))] = n + 1
+			}
+		}
+	}
+	return lines
+}
+
+var inlineKeyRE = regexp.MustCompile(`[{,]\s*([A-Za-z0-9_\-"'.]+)\s*=`)
+
+func stripComment(s string) string {
+	inQ := byte(0)
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case inQ != 0 && c == inQ:
+			inQ = 0
+		case inQ == 0 && (c == '"' || c == '\''):
+			inQ = c
+		case inQ == 0 && c == '#':
+			return s[:i]
+		}
+	}
+	return s
+}
+
+func cleanKey(k string) string {
+	parts := strings.Split(k, ".")
+	for i, p := range parts {
+		parts[i] = strings.Trim(strings.TrimSpace(p), `"'`)
+	}
+	return strings.Join(parts, ".")
+}
+
+func joinKey(a, b string) string {
+	if a == "" {
+		return b
+	}
+	return a + "." + b
+}
