@@ -130,9 +130,13 @@ var phases = []Phase{
 		Colour: color.RGBA{0x71, 0x22, 0xa1, 0xff}},
 
 	// C-S-H as C1.7SH4 (saturated, gel water included); D-dry C1.7SH1.4.
-	{ID: CSHInner, Key: "csh_inner", Name: "C-S-H (inner)", Role: RoleHydrate, DensityGPerCM3: 2.12, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 11.6,
+	// REFERENCES.md gives ρ 2.12 g/cm³ and Vm ≈ 108 cm³/mol, which differ
+	// by their rounding (227.5/2.12 = 107.3); the density here, 2.106, keeps
+	// the tabled molar volume of 108 cm³/mol, which is what the volume
+	// stoichiometry uses.
+	{ID: CSHInner, Key: "csh_inner", Name: "C-S-H (inner)", Role: RoleHydrate, DensityGPerCM3: 2.106, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 12.09,
 		Colour: color.RGBA{0x17, 0xb7, 0x6e, 0xff}},
-	{ID: CSHOuter, Key: "csh_outer", Name: "C-S-H (outer)", Role: RoleHydrate, DensityGPerCM3: 2.12, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 11.6,
+	{ID: CSHOuter, Key: "csh_outer", Name: "C-S-H (outer)", Role: RoleHydrate, DensityGPerCM3: 2.106, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 12.09,
 		Colour: color.RGBA{0xab, 0xf1, 0x77, 0xff}},
 	{ID: CH, Key: "ch", Name: "CH", Role: RoleHydrate, DensityGPerCM3: 2.24, MolarMassGPerMol: 74.09, BoundWaterMol: 1, MeanZ: 14.3,
 		Colour: color.RGBA{0x30, 0x55, 0xff, 0xff}},

@@ -72,6 +72,11 @@ type Params struct {
 	// WalkSteps bounds one attempt; SpawnSteps bounds the first walk of a
 	// unit from the site where it dissolved.
 	WalkSteps, SpawnSteps int
+	// ProductLengthUM is δ0 of the through-product law: a face covered by
+	// C-S-H dissolves at β/(1 + δ/δ0) of the bare rate, δ being the depth to
+	// which its grain has reacted (µm). Zero turns the thickness dependence
+	// off.
+	ProductLengthUM float64
 	// NucleationEaKJPerMol is the activation energy of nucleation and of
 	// precipitation attempts.
 	NucleationEaKJPerMol float64
@@ -98,17 +103,17 @@ func DefaultParams() Params {
 	ea := 40.0 // kJ/mol, the typical 40–45 of ASTM C1074 guidance (REFERENCES.md, from memory)
 	return Params{
 		Dissolve: []Dissolution{
-			{Phase: C3S, VelocityUMPerH: 0.25, ThroughProduct: 0.06, SulfateFactor: 1, EaKJPerMol: ea},
-			{Phase: C2S, VelocityUMPerH: 0.025, ThroughProduct: 0.06, SulfateFactor: 1, EaKJPerMol: ea},
-			{Phase: C3A, VelocityUMPerH: 0.6, ThroughProduct: 0.06, SulfateFactor: 0.03, EaKJPerMol: ea},
-			{Phase: C4AF, VelocityUMPerH: 0.15, ThroughProduct: 0.06, SulfateFactor: 0.3, EaKJPerMol: ea},
+			{Phase: C3S, VelocityUMPerH: 0.045, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: C2S, VelocityUMPerH: 0.005, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: C3A, VelocityUMPerH: 0.6, ThroughProduct: 0.15, SulfateFactor: 0.01, EaKJPerMol: ea},
+			{Phase: C4AF, VelocityUMPerH: 0.15, ThroughProduct: 0.15, SulfateFactor: 0.05, EaKJPerMol: ea},
 			{Phase: Gypsum, VelocityUMPerH: 5, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: Hemihydrate, VelocityUMPerH: 10, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: Anhydrite, VelocityUMPerH: 2, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: AFt, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 		},
 		SilicateSaturation:      0.002,
-		CSHNucleationPerUM2H:    0.002,
+		CSHNucleationPerUM2H:    0.0001,
 		CHSaturation:            0.004,
 		CHNucleationPerUM3H:     1e-5,
 		GypsumSolubilityMolPerL: 0.015, // about 2.4 g/L CaSO4·2H2O at 20 °C (common practice)
@@ -116,6 +121,7 @@ func DefaultParams() Params {
 		WalkSteps:               250,
 		SpawnSteps:              400,
 		NucleationEaKJPerMol:    ea,
+		ProductLengthUM:         1,
 		Growth: []Growth{
 			{Product: CSHOuter,
 				On:     map[ID]float64{CSHInner: 0.15, CSHOuter: 0.15, Calcite: 0.01},
@@ -184,6 +190,9 @@ func (p *Params) Validate() error {
 	}
 	if p.WalkSteps < 1 || p.WalkSteps > 100000 || p.SpawnSteps < 1 || p.SpawnSteps > 100000 {
 		return fmt.Errorf("kinetics.walk_steps = %d, spawn_steps = %d: each must be in [1, 100000]", p.WalkSteps, p.SpawnSteps)
+	}
+	if p.ProductLengthUM < 0 || p.ProductLengthUM > 100 {
+		return fmt.Errorf("kinetics.product_length_um = %g: must be in [0, 100]", p.ProductLengthUM)
 	}
 	if p.NucleationEaKJPerMol < 0 || p.NucleationEaKJPerMol > 150 {
 		return fmt.Errorf("kinetics.nucleation_ea_kj_per_mol = %g: must be in [0, 150]", p.NucleationEaKJPerMol)

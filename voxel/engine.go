@@ -90,6 +90,9 @@ type Engine struct {
 	arrNuc  float64
 	rates   []float64
 	rxIndex map[string]int
+	// partInit is the number of anhydrous voxels of each grain at the start,
+	// by particle id.
+	partInit []int32
 }
 
 // state is everything that changes during a run apart from the lattice and
@@ -112,6 +115,7 @@ type state struct {
 	Count      [kinetics.NumIDs]int
 	Initial    [kinetics.NumIDs]int
 	Reacted    [kinetics.NumIDs]int // voxels of each phase consumed
+	PartLeft   []int32              // anhydrous voxels left in each grain
 	Events     uint64
 	Steps      uint64
 	EmptyList  []int32
@@ -244,22 +248,39 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	}
 	e.s.Count = g.Count()
 	e.s.Initial = e.s.Count
-	for i := range kinetics.Phases() {
-		ph := &kinetics.Phases()[i]
-		if ph.Role == kinetics.RoleClinker || ph.Role == kinetics.RoleSulfate {
-			e.cementG += float64(e.s.Count[ph.ID]) * ph.DensityGPerCM3 * e.voxCM3
-		}
-	}
+	e.setCementMass()
 	if e.cementG == 0 {
 		return nil, errors.New("voxel: the box holds no cement to hydrate")
 	}
 	e.pcg = rand.NewPCG(set.Seed, set.Seed^0x9e3779b97f4a7c15)
 	e.r = rand.New(e.pcg)
+	var maxP int32
+	for _, p := range g.Particle {
+		maxP = max(maxP, p)
+	}
+	e.partInit = make([]int32, maxP+1)
+	for i, p := range g.Particle {
+		if p > 0 && kinetics.IsAnhydrous(g.Phase[i]) {
+			e.partInit[p]++
+		}
+	}
+	e.s.PartLeft = append([]int32(nil), e.partInit...)
 	e.buildClasses()
 	e.arrT = math.NaN()
 	e.arrD = make([]float64, len(e.dph))
 	e.rates = make([]float64, len(e.dph)+2+len(e.products))
 	return e, nil
+}
+
+// setCementMass computes the mass of clinker and sulfate at the start.
+func (e *Engine) setCementMass() {
+	e.cementG = 0
+	for i := range kinetics.Phases() {
+		ph := &kinetics.Phases()[i]
+		if ph.Role == kinetics.RoleClinker || ph.Role == kinetics.RoleSulfate {
+			e.cementG += float64(e.s.Initial[ph.ID]) * ph.DensityGPerCM3 * e.voxCM3
+		}
+	}
 }
 
 // buildClasses puts every exposed voxel of a dissolving phase in its class,

@@ -129,8 +129,10 @@ func (e *Engine) silicateSaturation() float64 {
 	return float64(len(e.s.Free[kinetics.CSHOuter])) / (e.p.SilicateSaturation * water)
 }
 
+// sulfateLeft reports whether solid sulfate remains (a small dissolved
+// remainder does not count: it cannot form a whole voxel of ettringite).
 func (e *Engine) sulfateLeft() bool {
-	return e.s.PoolSO4Mol > 0 || e.s.Count[kinetics.Gypsum]+e.s.Count[kinetics.Hemihydrate]+e.s.Count[kinetics.Anhydrite] > 0
+	return e.s.Count[kinetics.Gypsum]+e.s.Count[kinetics.Hemihydrate]+e.s.Count[kinetics.Anhydrite] > 0
 }
 
 // fire chooses and runs one event in proportion to the rates.
@@ -153,7 +155,9 @@ func (e *Engine) fire(total float64) error {
 		if i < 0 {
 			return fmt.Errorf("voxel: internal error: no surface voxel of %s for a dissolution event", kinetics.Lookup(e.dph[k]).Key)
 		}
-		e.dissolve(i)
+		if e.accept(i, k) {
+			e.dissolve(i)
+		}
 	case k == nd+evCSHNucleation:
 		e.nucleateCSH()
 	case k == nd+evCHNucleation:
@@ -204,6 +208,30 @@ func (e *Engine) classWeight(d, c int, weighted bool) float64 {
 		return 1
 	}
 	return float64(triW[c]) + e.beta[d]*float64(triH[c])
+}
+
+// accept thins a dissolution event of voxel i (phase index d), chosen with
+// the bound weight n_w + β·n_p, down to its true weight n_w + β·f·n_p: f is
+// the through-product factor of the voxel's grain, 1/(1 + δ/δ0), where δ is
+// the depth to which the grain has reacted — the thickness of the product
+// it must dissolve through — and δ0 the product length of the kinetics
+// table. Thinning keeps the Gillespie clock exact (the rejected share of
+// the bound is a null event) while the rate classes stay uniform.
+func (e *Engine) accept(i, d int) bool {
+	c := int(e.cls[i]) % classesPerPhase
+	h := float64(triH[c])
+	if h == 0 || e.p.ProductLengthUM <= 0 {
+		return true
+	}
+	w := float64(triW[c])
+	f := 1.0
+	if p := e.g.Particle[i]; p > 0 && int(p) < len(e.partInit) && e.partInit[p] > 0 {
+		r0 := math.Cbrt(3 * float64(e.partInit[p]) / (4 * math.Pi))
+		depth := r0 * (1 - math.Cbrt(float64(e.s.PartLeft[p])/float64(e.partInit[p]))) * e.g.VoxelUM
+		f = 1 / (1 + depth/e.p.ProductLengthUM)
+	}
+	bound := w + e.beta[d]*h
+	return e.r.Float64()*bound < w+e.beta[d]*f*h
 }
 
 // dissolve runs the reaction driven by voxel i of a dissolving phase.
@@ -257,6 +285,7 @@ func (e *Engine) react(i, rx int) {
 	e.s.ShrinkVox += shrink
 	e.s.Reacted[id]++
 	e.s.RxVoxels[rx]++
+	e.leave(i)
 	e.setPhase(i, kinetics.Water)
 	for t, term := range r.Products {
 		e.s.Acc[rx][t] += r.VoxelsPerVoxel(term.Phase)
@@ -294,7 +323,15 @@ func (e *Engine) dissolveSulfate(i int) {
 	default:
 		e.s.PoolSO4Mol += e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
 		e.s.Reacted[id]++
+		e.leave(i)
 		e.setPhase(i, kinetics.Water)
+	}
+}
+
+// leave records that anhydrous voxel i is leaving its grain.
+func (e *Engine) leave(i int) {
+	if p := e.g.Particle[i]; p > 0 && int(p) < len(e.s.PartLeft) && kinetics.IsAnhydrous(e.g.Phase[i]) {
+		e.s.PartLeft[p]--
 	}
 }
 
@@ -321,11 +358,8 @@ func (e *Engine) takeSulfate(mol float64) bool {
 }
 
 // takeAFt draws mol of ettringite from its pool, dissolving exposed
-// ettringite voxels as needed, but only once the sulfate is gone.
+// ettringite voxels as needed; it is called once no exposed sulfate is left.
 func (e *Engine) takeAFt(mol float64) bool {
-	if e.sulfateLeft() && e.s.PoolAFtMol < mol {
-		return false
-	}
 	d := int(e.dOf[kinetics.AFt])
 	molVox := e.voxCM3 / kinetics.Lookup(kinetics.AFt).MolarVolumeCM3()
 	for e.s.PoolAFtMol < mol {

@@ -1,0 +1,158 @@
+package voxel
+
+import (
+	"bytes"
+	"compress/flate"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/gob"
+	"errors"
+	"fmt"
+	"io"
+	"math/rand/v2"
+)
+
+// Checkpoint file layout: the magic line, a format version (uint32, big
+// endian), the SHA-256 of the payload, the payload length (uint64), and the
+// payload: a DEFLATE-compressed gob of checkpointData. The payload holds the
+// full state — lattice, class sets in their exact order, dissolved units,
+// accumulators, pools, clock, the random generator's state — so a resumed
+// run continues exactly where the saved one stood.
+const (
+	checkpointMagic   = "gelspace checkpoint\n"
+	checkpointVersion = 1
+)
+
+type checkpointData struct {
+	Fingerprint [32]byte
+	NX, NY, NZ  int
+	VoxelUM     float64
+	Phase       []uint8
+	Particle    []int32
+	PartInit    []int32
+	Sets        [][]int32
+	State       state
+	Extra       []byte
+}
+
+// Fingerprint identifies the settings a run was started with; a checkpoint
+// is refused by settings with another fingerprint.
+func (set *EngineSettings) Fingerprint() [32]byte {
+	return sha256.Sum256([]byte(fmt.Sprintf("%#v|%#v|%v|%d", set.Params, set.Thermal, set.Sealed, set.Seed)))
+}
+
+// WriteCheckpoint saves the engine's full state and the caller's extra
+// bytes (for example the rows of output written so far).
+func (e *Engine) WriteCheckpoint(w io.Writer, set *EngineSettings, extra []byte) error {
+	var err error
+	if e.s.RNG, err = e.pcg.MarshalBinary(); err != nil {
+		return err
+	}
+	d := checkpointData{Fingerprint: set.Fingerprint(), NX: e.g.NX, NY: e.g.NY, NZ: e.g.NZ, VoxelUM: e.g.VoxelUM,
+		Phase: e.g.Phase, Particle: e.g.Particle, PartInit: e.partInit, Sets: e.sets, State: e.s, Extra: extra}
+	var payload bytes.Buffer
+	fw, _ := flate.NewWriter(&payload, flate.BestSpeed)
+	if err := gob.NewEncoder(fw).Encode(&d); err != nil {
+		return fmt.Errorf("voxel: encoding checkpoint: %w", err)
+	}
+	if err := fw.Close(); err != nil {
+		return err
+	}
+	sum := sha256.Sum256(payload.Bytes())
+	var hdr bytes.Buffer
+	hdr.WriteString(checkpointMagic)
+	binary.Write(&hdr, binary.BigEndian, uint32(checkpointVersion))
+	hdr.Write(sum[:])
+	binary.Write(&hdr, binary.BigEndian, uint64(payload.Len()))
+	if _, err := w.Write(hdr.Bytes()); err != nil {
+		return err
+	}
+	_, err = w.Write(payload.Bytes())
+	return err
+}
+
+// ErrCheckpoint wraps every reason a checkpoint is refused.
+var ErrCheckpoint = errors.New("checkpoint refused")
+
+// ReadCheckpoint restores an engine saved by WriteCheckpoint, and returns
+// the extra bytes saved with it. It refuses, with an error wrapping
+// ErrCheckpoint, a file that is truncated or corrupt (checksum), of another
+// format version, or saved with other settings.
+func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
+	bad := func(format string, a ...any) error {
+		return fmt.Errorf("%w: %s", ErrCheckpoint, fmt.Sprintf(format, a...))
+	}
+	hdr := make([]byte, len(checkpointMagic)+4+32+8)
+	if _, err := io.ReadFull(r, hdr); err != nil {
+		return nil, nil, bad("not a gelspace checkpoint (too short)")
+	}
+	if string(hdr[:len(checkpointMagic)]) != checkpointMagic {
+		return nil, nil, bad("not a gelspace checkpoint")
+	}
+	p := len(checkpointMagic)
+	if v := binary.BigEndian.Uint32(hdr[p:]); v != checkpointVersion {
+		return nil, nil, bad("format version %d, this gelspace reads version %d", v, checkpointVersion)
+	}
+	var sum [32]byte
+	copy(sum[:], hdr[p+4:])
+	n := binary.BigEndian.Uint64(hdr[p+36:])
+	if n > 1<<36 {
+		return nil, nil, bad("payload length %d is implausible", n)
+	}
+	payload := make([]byte, n)
+	if _, err := io.ReadFull(r, payload); err != nil {
+		return nil, nil, bad("truncated: %d bytes of payload expected", n)
+	}
+	if sha256.Sum256(payload) != sum {
+		return nil, nil, bad("checksum mismatch: the file is corrupt")
+	}
+	var d checkpointData
+	if err := gob.NewDecoder(flate.NewReader(bytes.NewReader(payload))).Decode(&d); err != nil {
+		return nil, nil, bad("decoding: %v", err)
+	}
+	if d.Fingerprint != set.Fingerprint() {
+		return nil, nil, bad("it was saved with other settings (config, kinetics, seed or curing differ)")
+	}
+	nvox := d.NX * d.NY * d.NZ
+	if len(d.Phase) != nvox || len(d.Particle) != nvox {
+		return nil, nil, bad("lattice size does not match its dimensions")
+	}
+	g := &Grid{NX: d.NX, NY: d.NY, NZ: d.NZ, VoxelUM: d.VoxelUM, Phase: d.Phase, Particle: d.Particle}
+	// Build a fresh engine for the derived tables, then put the saved state
+	// in place of what it computed.
+	e, err := NewEngine(g.Clone(), set)
+	if err != nil {
+		return nil, nil, err
+	}
+	e.g = g
+	e.partInit = d.PartInit
+	e.s = d.State
+	e.setCementMass()
+	if len(d.Sets) != len(e.sets) {
+		return nil, nil, bad("rate classes do not match this gelspace")
+	}
+	e.sets = d.Sets
+	for i := range e.cls {
+		e.cls[i] = noClass
+	}
+	for k := range e.sumW {
+		e.sumW[k], e.sumH[k] = 0, 0
+	}
+	for c, set := range e.sets {
+		for k, i := range set {
+			if int(i) < 0 || int(i) >= nvox {
+				return nil, nil, bad("class member out of range")
+			}
+			e.cls[i] = uint8(c)
+			e.slot[i] = int32(k)
+			e.sumW[c/classesPerPhase] += int(triW[c%classesPerPhase])
+			e.sumH[c/classesPerPhase] += int(triH[c%classesPerPhase])
+		}
+	}
+	e.pcg = &rand.PCG{}
+	if err := e.pcg.UnmarshalBinary(e.s.RNG); err != nil {
+		return nil, nil, bad("random generator state: %v", err)
+	}
+	e.r = rand.New(e.pcg)
+	return e, d.Extra, nil
+}
