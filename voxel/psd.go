@@ -47,6 +47,11 @@ func RosinRammler(xUM, n float64) (*PSD, error) {
 // non-decreasing, with the last row at least 99 % (it is scaled to 100 %:
 // instruments round). At least two rows.
 func NewPSDTable(sizesUM, passingPercent []float64) (*PSD, error) {
+	return newPSDTable(sizesUM, passingPercent, func(i int) string { return fmt.Sprintf("PSD row %d", i+1) })
+}
+
+// newPSDTable is NewPSDTable with row names for messages.
+func newPSDTable(sizesUM, passingPercent []float64, row func(i int) string) (*PSD, error) {
 	if len(sizesUM) != len(passingPercent) {
 		panic("voxel: NewPSDTable: sizes and passing differ in length")
 	}
@@ -57,21 +62,21 @@ func NewPSDTable(sizesUM, passingPercent []float64) (*PSD, error) {
 	for i, x := range sizesUM {
 		q := passingPercent[i]
 		if !(x > 0) || math.IsInf(x, 0) {
-			return nil, fmt.Errorf("PSD row %d: size_um = %g: must be > 0", i+1, x)
+			return nil, fmt.Errorf("%s: size_um = %g: must be > 0", row(i), x)
 		}
 		if i > 0 && !(x > sizesUM[i-1]) {
-			return nil, fmt.Errorf("PSD row %d: size_um = %g after %g: sizes must increase strictly", i+1, x, sizesUM[i-1])
+			return nil, fmt.Errorf("%s: size_um = %g after %g: sizes must increase strictly", row(i), x, sizesUM[i-1])
 		}
 		if !(q >= 0 && q <= 100) {
-			return nil, fmt.Errorf("PSD row %d: passing_percent = %g: must be between 0 and 100", i+1, q)
+			return nil, fmt.Errorf("%s: passing_percent = %g: must be between 0 and 100", row(i), q)
 		}
 		if i > 0 && q < passingPercent[i-1] {
-			return nil, fmt.Errorf("PSD row %d: passing_percent = %g after %g: cumulative passing must not decrease", i+1, q, passingPercent[i-1])
+			return nil, fmt.Errorf("%s: passing_percent = %g after %g: cumulative passing must not decrease", row(i), q, passingPercent[i-1])
 		}
 	}
 	last := passingPercent[len(passingPercent)-1]
 	if last < 99 {
-		return nil, fmt.Errorf("PSD last row: passing_percent = %g at %g µm: the table must reach 100 (at least 99) at its coarsest size", last, sizesUM[len(sizesUM)-1])
+		return nil, fmt.Errorf("%s: passing_percent = %g at %g µm: the table must reach 100 (at least 99) at its coarsest size", row(len(sizesUM)-1), last, sizesUM[len(sizesUM)-1])
 	}
 	for i, q := range passingPercent {
 		p.passing[i] = q / last
@@ -109,7 +114,8 @@ func ReadPSDTable(r io.Reader) (*PSD, error) {
 		return nil, fmt.Errorf("PSD table header %q: need columns size_um and passing_percent", strings.Join(head, ","))
 	}
 	var sizes, pass []float64
-	for row := 2; ; row++ {
+	var lines []int
+	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
 			break
@@ -117,6 +123,7 @@ func ReadPSDTable(r io.Reader) (*PSD, error) {
 		if err != nil {
 			return nil, fmt.Errorf("PSD table: %v", err)
 		}
+		row, _ := cr.FieldPos(0)
 		if len(rec) <= is || len(rec) <= ip {
 			return nil, fmt.Errorf("PSD table line %d: %d fields, need columns %d and %d", row, len(rec), is+1, ip+1)
 		}
@@ -127,8 +134,9 @@ func ReadPSDTable(r io.Reader) (*PSD, error) {
 		}
 		sizes = append(sizes, x)
 		pass = append(pass, q)
+		lines = append(lines, row)
 	}
-	return NewPSDTable(sizes, pass)
+	return newPSDTable(sizes, pass, func(i int) string { return fmt.Sprintf("line %d", lines[i]) })
 }
 
 // Passing returns the mass fraction finer than xUM.
