@@ -98,11 +98,16 @@ type Solver struct {
 	dbuf []float64
 	g    [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
 	invd []float32    // Jacobi preconditioner; 0 outside the active set
-	x    []float64
 	r    []float64
 	p    []float64
 	q    []float64
-	part [][2]float64 // per z plane partial sums, added in plane order
+	part [][3]float64 // per z plane partial sums, added in plane order
+
+	// set per pass
+	op          int // passSetup, passMatvec, passUpdate, passDirection
+	axisA       int
+	cl          *Clusters
+	alpha, beta float64
 
 	// set per solve
 	box     Box
@@ -189,7 +194,6 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	cl := s.lab.Label(box, s.in)
 	s.conductances()
 	s.invd = grow(s.invd, n)
-	s.x = grow(s.x, n)
 	s.r = grow(s.r, n)
 	s.p = grow(s.p, n)
 	s.q = grow(s.q, n)
@@ -268,12 +272,21 @@ func hm(a, b float64, open bool) float32 {
 	return float32(2 * a * b / (a + b))
 }
 
-// parallel runs f over contiguous ranges of z planes, one per worker, and
-// waits for all.
-func (s *Solver) parallel(f func(z0, z1 int)) {
+// The passes of one iteration, run over z planes by parallel.
+const (
+	passSetup = iota
+	passMatvec
+	passUpdate
+	passDirection
+)
+
+// parallel runs pass op over contiguous ranges of z planes, one range per
+// worker, and waits for all.
+func (s *Solver) parallel(op int) {
+	s.op = op
 	nz, w := s.box.NZ, s.workers
 	if w <= 1 {
-		f(0, nz)
+		s.pass(0, nz)
 		return
 	}
 	var wg sync.WaitGroup
@@ -281,68 +294,94 @@ func (s *Solver) parallel(f func(z0, z1 int)) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			f(k*nz/w, (k+1)*nz/w)
+			s.pass(k*nz/w, (k+1)*nz/w)
 		}()
 	}
-	f(0, nz/w)
+	s.pass(0, nz/w)
 	wg.Wait()
+}
+
+func (s *Solver) pass(z0, z1 int) {
+	switch s.op {
+	case passSetup:
+		s.setup(z0, z1)
+	case passMatvec:
+		s.matvec(z0, z1)
+	case passUpdate:
+		s.update(z0, z1)
+	case passDirection:
+		s.direction(z0, z1)
+	}
 }
 
 // sums adds the per-plane partial sums in plane order, so that the result
 // does not depend on the number of workers.
-func (s *Solver) sums() (a, b float64) {
+func (s *Solver) sums() (a, b, c float64) {
 	for _, p := range s.part {
 		a += p[0]
 		b += p[1]
+		c += p[2]
 	}
-	return a, b
+	return a, b, c
 }
 
-// axis solves for the fluctuation w with a unit gradient along axis a and
-// returns D/D0, the iterations and the relative residual reached.
+// axis solves for the fluctuation w with a unit gradient along axis a by
+// Jacobi-preconditioned conjugate gradients from w = 0 and returns D/D0,
+// the iterations and the relative residual reached.
+//
+// D/D0 is the dissipation E(w)/V of the potential u = w − x_a (see the
+// package doc). With E(w) = wᵀAw − 2bᵀw + c0 and CG's steps α_k along p_k
+// with ρ_k = r_k·M⁻¹r_k, each step lowers E by exactly α_k ρ_k, so
+//
+//	E(w_k) = c0 − Σ_{j<k} α_j ρ_j,
+//
+// an upper bound that falls to the true dissipation as CG converges; the
+// iterate w itself is never stored.
 func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, int, float64, error) {
 	s.elec = -1
 	if !s.box.Periodic[a] {
 		s.elec = a
 	}
-	s.parallel(func(z0, z1 int) { s.setup(a, cl, z0, z1) })
-	rho, bb := s.sums()
+	s.axisA, s.cl = a, cl
+	s.parallel(passSetup)
+	rho, bb, c0 := s.sums()
+	e := c0
 	var iter int
 	var rel float64
 	var err error
 	if bb > 0 {
 		bnorm := math.Sqrt(bb)
+		rel = 1
 		for {
 			if iter >= maxIter {
 				err = fmt.Errorf("percolation: diffusivity along %s: relative residual %.3g after %d iterations, above the tolerance %g (raise MaxIter)", axisNames[a], rel, iter, tol)
 				break
 			}
-			s.parallel(s.matvec)
-			pq, _ := s.sums()
+			s.parallel(passMatvec)
+			pq, _, _ := s.sums()
 			iter++
 			if !(pq > 0) {
-				break // p is 0 on the active set: nothing left to solve
+				break // p vanishes on the active set: nothing left to solve
 			}
-			alpha := rho / pq
-			s.parallel(func(z0, z1 int) { s.update(alpha, z0, z1) })
-			rz, rr := s.sums()
+			s.alpha = rho / pq
+			e -= s.alpha * rho
+			s.parallel(passUpdate)
+			rz, rr, _ := s.sums()
 			rel = math.Sqrt(rr) / bnorm
 			if rel <= tol {
 				break
 			}
-			beta := rz / rho
+			s.beta = rz / rho
 			rho = rz
-			s.parallel(func(z0, z1 int) { s.direction(beta, z0, z1) })
+			s.parallel(passDirection)
 		}
 	}
-	s.parallel(func(z0, z1 int) { s.energy(a, z0, z1) })
-	e, _ := s.sums()
-	return e / float64(s.box.Len()), iter, rel, err
+	return max(e, 0) / float64(s.box.Len()), iter, rel, err
 }
 
-// rowOffsets returns the offsets of the rows at y−1, y+1 (same plane) and
-// at z−1, z+1 (same y), wrapping; bonds across open faces have g = 0, so
-// wrapping there is harmless.
+// rowOffsets returns the offsets of the row (y, z) and of the rows at y−1,
+// y+1 (same plane) and z−1, z+1 (same y), wrapping; bonds across open faces
+// have g = 0, so wrapping there is harmless.
 func (s *Solver) rowOffsets(y, z int) (row, ym, yp, zm, zp int) {
 	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
 	plane := nx * ny
@@ -364,15 +403,26 @@ func (s *Solver) rowOffsets(y, z int) (row, ym, yp, zm, zp int) {
 	return row, nx*y0 + plane*z, nx*y1 + plane*z, nx*y + plane*z0, nx*y + plane*z1
 }
 
-// electrode returns the conductance 2d of the half voxel between voxel
-// (x, y, z) and an electrode, times the number of electrodes it touches
-// (0, 1, or 2 on an axis of length 1), and the electrode's source term
-// d·(low − high).
+// onFace reports whether row (y, z) holds voxels on the electrode faces
+// of an open gradient axis.
+func (s *Solver) onFace(y, z int) bool {
+	switch s.elec {
+	case 0:
+		return true
+	case 1:
+		return y == 0 || y == s.box.NY-1
+	case 2:
+		return z == 0 || z == s.box.NZ-1
+	}
+	return false
+}
+
+// electrode returns, for voxel i at c on an electrode face, the
+// conductance 2d of the half voxel to the electrode times the number of
+// electrodes it touches (2 on an axis one voxel long), and its source
+// term d·(low − high).
 func (s *Solver) electrode(i int, c [3]int) (g, src float64) {
 	a := s.elec
-	if a < 0 {
-		return 0, 0
-	}
 	n := s.box.dims()[a]
 	di := s.d[i]
 	if c[a] == 0 {
@@ -386,30 +436,19 @@ func (s *Solver) electrode(i int, c [3]int) (g, src float64) {
 	return g, src
 }
 
-// onFace reports whether row (y, z) may hold electrode voxels.
-func (s *Solver) onFace(y, z int) bool {
-	switch s.elec {
-	case 0:
-		return true
-	case 1:
-		return y == 0 || y == s.box.NY-1
-	case 2:
-		return z == 0 || z == s.box.NZ-1
-	}
-	return false
-}
-
-// setup fills the preconditioner, the right-hand side r = b, p = M⁻¹r and
-// x = 0 for the planes [z0, z1), with part = (r·M⁻¹r, r·r) per plane.
-func (s *Solver) setup(a int, cl *Clusters, z0, z1 int) {
+// setup fills, on the planes [z0, z1), the preconditioner (0 off the active
+// set), the right-hand side r = b and p = M⁻¹r, with part = (r·M⁻¹r, r·r,
+// c0) per plane, c0 being the dissipation at w = 0.
+func (s *Solver) setup(z0, z1 int) {
+	a, cl := s.axisA, s.cl
 	nx, ny := s.box.NX, s.box.NY
 	gx, gy, gz := s.g[0], s.g[1], s.g[2]
 	ga := s.g[a]
 	for z := z0; z < z1; z++ {
-		var rz, rr float64
+		var rz, rr, c0 float64
 		for y := range ny {
 			row, ym, _, zm, _ := s.rowOffsets(y, z)
-			back := [3]int{0, ym, zm} // row of the −a neighbours, for a = 1, 2
+			back := [3]int{0, ym, zm} // rows of the −a neighbours for a = 1, 2
 			face := s.onFace(y, z)
 			for x := range nx {
 				i := row + x
@@ -417,24 +456,23 @@ func (s *Solver) setup(a int, cl *Clusters, z0, z1 int) {
 				if x == 0 {
 					xm = nx - 1
 				}
-				s.x[i] = 0
 				c := cl.Label[i]
 				if c < 0 || !cl.Spans[c][a] {
 					s.invd[i], s.r[i], s.p[i] = 0, 0, 0
 					continue
 				}
 				diag := float64(gx[i]) + float64(gx[row+xm]) + float64(gy[i]) + float64(gy[ym+x]) + float64(gz[i]) + float64(gz[zm+x])
-				var gm float64
-				if a == 0 {
-					gm = float64(gx[row+xm])
-				} else {
+				gm := float64(gx[row+xm])
+				if a > 0 {
 					gm = float64(ga[back[a]+x])
 				}
 				b := gm - float64(ga[i])
+				c0 += float64(ga[i])
 				if face {
 					ge, src := s.electrode(i, [3]int{x, y, z})
 					diag += ge
 					b += src
+					c0 += ge / 4 // each link 2d·(1/2)²
 				}
 				var m float32
 				if diag > 0 {
@@ -447,13 +485,16 @@ func (s *Solver) setup(a int, cl *Clusters, z0, z1 int) {
 				rr += b * b
 			}
 		}
-		s.part[z] = [2]float64{rz, rr}
+		s.part[z] = [3]float64{rz, rr, c0}
 	}
 }
 
-// matvec computes q = A p on the planes [z0, z1), with part = (p·q, 0).
-// (A p)_i = Σ_j g_ij (p_i − p_j) over the six bonds, plus the electrode
-// conductance times p_i on the faces of an open gradient axis.
+// matvec computes q = A p on the planes [z0, z1), with part = (p·q, 0, 0):
+//
+//	(A p)_i = Σ_j g_ij (p_i − p_j)
+//
+// over the six bonds, plus the electrode conductance times p_i on the
+// faces of an open gradient axis.
 func (s *Solver) matvec(z0, z1 int) {
 	nx, ny := s.box.NX, s.box.NY
 	gx, gy, gz := s.g[0], s.g[1], s.g[2]
@@ -463,17 +504,22 @@ func (s *Solver) matvec(z0, z1 int) {
 		for y := range ny {
 			row, ym, yp, zm, zp := s.rowOffsets(y, z)
 			pr := p[row : row+nx]
-			pym, pyp := p[ym:ym+nx], p[yp:yp+nx]
-			pzm, pzp := p[zm:zm+nx], p[zp:zp+nx]
-			gxr, gyr, gzr := gx[row:row+nx], gy[row:row+nx], gz[row:row+nx]
-			gym, gzm := gy[ym:ym+nx], gz[zm:zm+nx]
-			qr := q[row : row+nx]
-			for x := range pr {
+			n := len(pr)
+			qr := q[row : row+nx][:n]
+			pym, pyp := p[ym : ym+nx][:n], p[yp : yp+nx][:n]
+			pzm, pzp := p[zm : zm+nx][:n], p[zp : zp+nx][:n]
+			gxr := gx[row : row+nx][:n]
+			gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
+			gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
+			// The voxels x = 0 and x = nx−1 wrap; the others, in the loop
+			// below, do not. A voxel off the active set has p = 0 and
+			// bonds only to such voxels, so its q is 0.
+			for _, x := range [2]int{0, n - 1} {
 				xm, xp := x-1, x+1
 				if x == 0 {
-					xm = nx - 1
+					xm = n - 1
 				}
-				if xp == nx {
+				if xp == n {
 					xp = 0
 				}
 				pi := pr[x]
@@ -481,103 +527,68 @@ func (s *Solver) matvec(z0, z1 int) {
 					float64(gyr[x])*(pi-pyp[x]) + float64(gym[x])*(pi-pym[x]) +
 					float64(gzr[x])*(pi-pzp[x]) + float64(gzm[x])*(pi-pzm[x])
 				qr[x] = v
-				pq += pi * v
-			}
-			if s.onFace(y, z) {
-				for x := range pr {
-					if pr[x] == 0 {
-						continue
-					}
-					ge, _ := s.electrode(row+x, [3]int{x, y, z})
-					qr[x] += ge * pr[x]
-					pq += ge * pr[x] * pr[x]
+				if n == 1 {
+					break
 				}
 			}
+			if n > 2 {
+				k := n - 2
+				pc, pl, ph := pr[1:][:k], pr[:k], pr[2:][:k]
+				gl, gc := gxr[:k], gxr[1:][:k]
+				qc := qr[1:][:k]
+				pym, pyp, pzm, pzp := pym[1:][:k], pyp[1:][:k], pzm[1:][:k], pzp[1:][:k]
+				gyr, gym, gzr, gzm := gyr[1:][:k], gym[1:][:k], gzr[1:][:k], gzm[1:][:k]
+				for x, pi := range pc {
+					qc[x] = float64(gc[x])*(pi-ph[x]) + float64(gl[x])*(pi-pl[x]) +
+						float64(gyr[x])*(pi-pyp[x]) + float64(gym[x])*(pi-pym[x]) +
+						float64(gzr[x])*(pi-pzp[x]) + float64(gzm[x])*(pi-pzm[x])
+				}
+			}
+			if s.onFace(y, z) {
+				for x, pi := range pr {
+					if pi != 0 {
+						ge, _ := s.electrode(row+x, [3]int{x, y, z})
+						qr[x] += ge * pi
+					}
+				}
+			}
+			for x, pi := range pr {
+				pq += pi * qr[x]
+			}
 		}
-		s.part[z] = [2]float64{pq, 0}
+		s.part[z] = [3]float64{pq, 0, 0}
 	}
 }
 
-// update does x += αp, r −= αq on the planes [z0, z1), with
-// part = (r·M⁻¹r, r·r).
-func (s *Solver) update(alpha float64, z0, z1 int) {
+// update does r −= αq on the planes [z0, z1), with part = (r·M⁻¹r, r·r, 0).
+func (s *Solver) update(z0, z1 int) {
 	plane := s.box.NX * s.box.NY
+	alpha := s.alpha
 	for z := z0; z < z1; z++ {
 		lo, hi := z*plane, (z+1)*plane
-		x, r, p, q, m := s.x[lo:hi], s.r[lo:hi], s.p[lo:hi], s.q[lo:hi], s.invd[lo:hi]
+		r, q, m := s.r[lo:hi], s.q[lo:hi], s.invd[lo:hi]
+		q, m = q[:len(r)], m[:len(r)]
 		var rz, rr float64
-		for i := range x {
-			x[i] += alpha * p[i]
-			ri := r[i] - alpha*q[i]
+		for i, ri := range r {
+			ri -= alpha * q[i]
 			r[i] = ri
 			rr += ri * ri
 			rz += float64(m[i]) * ri * ri
 		}
-		s.part[z] = [2]float64{rz, rr}
+		s.part[z] = [3]float64{rz, rr, 0}
 	}
 }
 
 // direction does p = M⁻¹r + βp on the planes [z0, z1).
-func (s *Solver) direction(beta float64, z0, z1 int) {
+func (s *Solver) direction(z0, z1 int) {
 	plane := s.box.NX * s.box.NY
+	beta := s.beta
 	for z := z0; z < z1; z++ {
 		lo, hi := z*plane, (z+1)*plane
 		r, p, m := s.r[lo:hi], s.p[lo:hi], s.invd[lo:hi]
-		for i := range p {
-			p[i] = float64(m[i])*r[i] + beta*p[i]
+		r, m = r[:len(p)], m[:len(p)]
+		for i, pi := range p {
+			p[i] = float64(m[i])*r[i] + beta*pi
 		}
-	}
-}
-
-// energy sums, on the planes [z0, z1), the dissipation Σ g (u_i − u_j)² of
-// u = w − x_a over the bonds from each active voxel to its +x, +y, +z
-// neighbours and the electrode links, with part = (sum, 0). Inactive
-// voxels (clusters that do not span axis a) carry no current.
-func (s *Solver) energy(a int, z0, z1 int) {
-	nx, ny := s.box.NX, s.box.NY
-	gx, gy, gz := s.g[0], s.g[1], s.g[2]
-	w := s.x
-	for z := z0; z < z1; z++ {
-		var e float64
-		for y := range ny {
-			row, _, yp, _, zp := s.rowOffsets(y, z)
-			face := s.onFace(y, z)
-			for x := range nx {
-				i := row + x
-				if s.invd[i] == 0 {
-					continue
-				}
-				xp := x + 1
-				if xp == nx {
-					xp = 0
-				}
-				var dx, dy, dz float64
-				switch a {
-				case 0:
-					dx = 1
-				case 1:
-					dy = 1
-				case 2:
-					dz = 1
-				}
-				wi := w[i]
-				ux := wi - w[row+xp] + dx
-				uy := wi - w[yp+x] + dy
-				uz := wi - w[zp+x] + dz
-				e += float64(gx[i])*ux*ux + float64(gy[i])*uy*uy + float64(gz[i])*uz*uz
-				if face {
-					c := [3]int{x, y, z}
-					n := s.box.dims()[a]
-					di := s.d[i]
-					if c[a] == 0 {
-						e += 2 * di * (0.5 - wi) * (0.5 - wi)
-					}
-					if c[a] == n-1 {
-						e += 2 * di * (wi + 0.5) * (wi + 0.5)
-					}
-				}
-			}
-		}
-		s.part[z] = [2]float64{e, 0}
 	}
 }
