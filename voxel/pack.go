@@ -178,6 +178,14 @@ func Pack(spec PackSpec) (*PackResult, error) {
 			}
 		}
 	}
+	nPart := 1
+	for _, c := range res.Counts {
+		for _, k := range c {
+			nPart += k
+		}
+	}
+	res.Diameter = append(make([]uint16, 0, nPart), 0)
+	res.Pop = append(make([]uint8, 0, nPart), 0)
 	rng := rand.New(rand.NewPCG(spec.Seed, 0x67656c7370616365)) // stream "gelspace"
 	pk := packer{g: g, rng: rng}
 	var order []uint8

@@ -104,7 +104,7 @@ func (f *noise) row(y, z int, out []float64) {
 }
 
 // noiseBins is the number of histogram bins a noise value is sorted into.
-const noiseBins = 1 << 16
+const noiseBins = 1 << 14
 
 func bin(v float64) int {
 	b := int(v * noiseBins)

@@ -5,6 +5,7 @@ import (
 	"os"
 	"runtime"
 	"testing"
+	"time"
 
 	"gelspace/kinetics"
 )
@@ -291,6 +292,23 @@ func BenchmarkPack200(b *testing.B) {
 		runtime.GC()
 		var before runtime.MemStats
 		runtime.ReadMemStats(&before)
+		// sample the live heap while packing
+		stop := make(chan struct{})
+		peak := make(chan uint64)
+		go func() {
+			var m runtime.MemStats
+			hi := uint64(0)
+			for {
+				select {
+				case <-stop:
+					peak <- hi
+					return
+				case <-time.After(2 * time.Millisecond):
+					runtime.ReadMemStats(&m)
+					hi = max(hi, m.HeapAlloc)
+				}
+			}
+		}()
 		psd, _ := RosinRammler(14, 1.05)
 		cls, _ := psd.Classes(1, n)
 		pops := Populations(demoPaste(b, 0.40), n*n*n, false)
@@ -300,6 +318,8 @@ func BenchmarkPack200(b *testing.B) {
 		}
 		var after runtime.MemStats
 		runtime.ReadMemStats(&after)
+		close(stop)
+		b.ReportMetric(float64(<-peak)/float64(n*n*n), "peak-heap-B/voxel")
 		b.ReportMetric(float64(after.TotalAlloc-before.TotalAlloc)/float64(n*n*n), "alloc-B/voxel")
 		b.ReportMetric(float64(len(res.Diameter)-1), "particles")
 		b.ReportMetric(float64(res.Scans), "scans")
@@ -327,6 +347,28 @@ func TestPackGap(t *testing.T) {
 		for k, id := range p.Phases {
 			if cnt[id] != p.Voxels[k] {
 				t.Errorf("%s: %d voxels, target %d", kinetics.Lookup(id).Key, cnt[id], p.Voxels[k])
+			}
+		}
+	}
+}
+
+func TestPackLong(t *testing.T) {
+	if os.Getenv("GELSPACE_LONG") == "" {
+		t.Skip("set GELSPACE_LONG=1 for the 200³ pack")
+	}
+	// The benchmark's box (200³, w/c 0.40) and a sealed-like low w/c with
+	// one phase per grain: exact phase counts in both.
+	for _, c := range []struct {
+		wc       float64
+		onePhase bool
+	}{{0.40, false}, {0.35, true}} {
+		res, pops, _ := packBox(t, 200, c.wc, 11, c.onePhase, 0)
+		cnt := res.Grid.Count()
+		for _, p := range pops {
+			for k, id := range p.Phases {
+				if cnt[id] != p.Voxels[k] {
+					t.Errorf("w/c %g: %s %d voxels, target %d", c.wc, kinetics.Lookup(id).Key, cnt[id], p.Voxels[k])
+				}
 			}
 		}
 	}
