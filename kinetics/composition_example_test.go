@@ -6,15 +6,16 @@ import (
 	"gelspace/kinetics"
 )
 
-// The worked example of REFERENCES.md (Bogue, ASTM C150 Annex A1).
+// The worked example of REFERENCES.md (Bogue, ASTM C150 Annex A1;
+// REFERENCES.md rounds to C3S 58.1, C2S 15.2, C3A 8.5, C4AF 8.8 — derived).
 func ExampleBogue() {
 	b, err := kinetics.Bogue(kinetics.Oxides{SiO2: 20.6, Al2O3: 5.07, Fe2O3: 2.90, CaO: 63.9, SO3: 2.53})
 	if err != nil {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("C3S %.1f  C2S %.1f  C3A %.1f  C4AF %.1f\n", b.C3S, b.C2S, b.C3A, b.C4AF)
-	// Output: C3S 58.1  C2S 15.2  C3A 8.5  C4AF 8.8
+	fmt.Printf("C3S %.2f  C2S %.2f  C3A %.2f  C4AF %.2f\n", b.C3S, b.C2S, b.C3A, b.C4AF)
+	// Output: C3S 58.15  C2S 15.19  C3A 8.53  C4AF 8.82
 }
 
 // Fresh-paste volumes of a cement at w/c 0.45.
