@@ -163,7 +163,7 @@ type configFlags struct {
 
 func addConfigFlags(fs *pflag.FlagSet, o *configFlags) {
 	fs.StringArrayVar(&o.sets, "set", nil, "override a config key: --set KEY=VALUE, dotted key, repeatable (--set mix.w_c=0.4)")
-	fs.Int64Var(&o.seed, "seed", -1, "random seed (overrides the config's seed)")
+	fs.Int64Var(&o.seed, "seed", 0, "random seed ≥ 0 (overrides the config's seed when given)")
 	fs.IntVar(&o.size, "size", 0, "box edge in voxels (overrides box.voxels)")
 	fs.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing but errors")
 }
