@@ -1,0 +1,102 @@
+// Package percolation measures the connectivity and transport of a voxel
+// microstructure: cluster labelling, spanning, the set point (solid
+// percolation), capillary-pore depercolation and the relative diffusivity
+// of the pore network.
+//
+// Everything works on plain slices over a Box, with the voxel at (x, y, z)
+// at index x + NX*(y + NY*z), the layout of voxel.Grid; phase ids follow
+// package kinetics (pores 0–9, anhydrous 10–29, hydrates 30–59).
+//
+// # Clusters
+//
+// Two voxels of a set are neighbours when they share a face
+// (6-connectivity); on a periodic axis the face at coordinate N−1 touches
+// the face at 0. Clusters are the connected components, found by the
+// Hoshen–Kopelman method (Labeler): one raster pass with union–find over
+// provisional labels, a pass over the periodic faces, and a relabelling pass
+// that numbers clusters in the order of their first voxel. A naive flood
+// fill in the tests gives the identical labelling.
+//
+// A cluster spans an axis:
+//
+//   - along an open (non-periodic) axis, when it has voxels on both faces,
+//     at coordinate 0 and N−1;
+//   - along a periodic axis, when it wraps: it contains a closed path that
+//     winds around the box along that axis, so that in the infinite
+//     periodic medium the box stands for, its copies join into one cluster
+//     that is unbounded along the axis. Touching both faces means nothing
+//     there (every cluster that crosses the periodic face does), so the
+//     labelling tracks the cell offset of each provisional label across
+//     periodic bonds and detects the loops whose windings differ.
+//
+// A box one voxel thick along an open axis is spanned along it by every
+// cluster. The connected fraction of a set is the number of its voxels in
+// clusters that span at least one axis divided by the number of its voxels
+// (0 for an empty set); Connectivity also reports which axes are spanned.
+//
+// Pores labels the capillary pore space (kinetics.IsPore: water-filled and
+// empty pores). Solids labels the solid skeleton with a bond rule: the sites
+// are the solid voxels, and two face neighbours are bonded when either is a
+// hydrate, or when both are anhydrous and belong to the same original
+// particle (particle id ≠ 0). Grains that merely touch are not bonded until
+// hydrate joins them; the set point is when the solids first span.
+//
+// # Diffusivity
+//
+// Diffusivity solves steady diffusion (equivalently conduction) on the
+// voxel grid. Each voxel i has a relative diffusivity d_i = D/D0 from its
+// phase, D0 being that of bulk pore water; the defaults
+// (DefaultDiffusivities) are 1 for every pore id, 1/400 for inner and outer
+// C-S-H (the gel-pore diffusivity relative to bulk water of Garboczi &
+// Bentz, J. Mater. Sci. 27 (1992) 2083) and 0 for every other phase. Each
+// pair of face neighbours is joined by the conductance of two half voxels in
+// series, the harmonic mean
+//
+//	g_ij = 2 d_i d_j / (d_i + d_j)   (0 when either is 0),
+//
+// and the potential u at voxel centres obeys Kirchhoff's law
+// Σ_j g_ij (u_j − u_i) = 0 at every voxel. Lengths are in voxels, so D/D0
+// does not depend on the voxel size.
+//
+// For a unit gradient along axis a, u = w − x_a, and the fluctuation w is
+// solved for:
+//
+//   - along a periodic axis, w is periodic (a macroscopic gradient with
+//     periodic fluctuations: the bond that crosses the periodic face sees
+//     the jump of x_a by N);
+//   - along an open axis, the faces x_a = 0 and x_a = N−1 touch electrodes
+//     half a voxel outside the box, held at u = +1/2 and u = −(N − 1/2), so
+//     the potential drop is N over the length N; each face voxel joins its
+//     electrode through its own half voxel, conductance 2 d_i. Open axes
+//     other than a are insulating faces.
+//
+// Both choices make layered media exact: layers parallel to the field give
+// the arithmetic mean of the layer diffusivities and layers in series the
+// harmonic mean. D/D0 is the dissipation per unit volume,
+//
+//	D/D0 = (1/V) Σ_bonds g_ij (u_i − u_j)²   (plus the electrode links),
+//
+// which at the solution equals the mean current density; the formation
+// factor is its inverse (+Inf when D = 0).
+//
+// Only clusters of conducting voxels that span axis a carry current along
+// it; every other voxel (insulating, or in a conducting island or a cluster
+// bounded along a) is left out of the solve, which removes the singular
+// blocks of isolated islands. When no conducting cluster spans, D/D0 = 0
+// with no iteration. A cluster that wraps along a periodic axis still has
+// the constant as a null vector; its right-hand side is consistent, and
+// conjugate gradients converge on it without pinning.
+//
+// The linear system is solved by conjugate gradients with a Jacobi
+// (diagonal) preconditioner, matrix-free, from w = 0, until the relative
+// residual ‖b − Aw‖₂/‖b‖₂ falls below DiffusivityOptions.Tol (default 1e-6)
+// or the iteration cap is hit (an error, with the estimate reached). The
+// dissipation is tracked from the CG step lengths without storing w (see
+// Solver.axis). Passes run over contiguous ranges of z planes on
+// DiffusivityOptions.Workers goroutines; every sum is formed per plane and
+// added in plane order, so results are identical for any number of workers
+// or GOMAXPROCS.
+//
+// Conductances are stored in single precision (relative rounding 6e-8);
+// vectors and sums are in double precision.
+package percolation
