@@ -300,6 +300,9 @@ func (e *Engine) buildClasses() {
 			e.reclassify(i)
 		}
 	}
+	for c, set := range e.sets {
+		e.sets[c] = append(make([]int32, 0, len(set)+len(set)/8), set...)
+	}
 }
 
 func (e *Engine) exposure(i int) (w, h int) {
@@ -337,7 +340,11 @@ func (e *Engine) reclassify(i int) {
 		last := set[len(set)-1]
 		set[k] = last
 		e.slot[last] = k
-		e.sets[old] = set[:len(set)-1]
+		set = set[:len(set)-1]
+		if cap(set) > 256 && len(set) < cap(set)/4 {
+			set = append(make([]int32, 0, 2*len(set)), set...) // give memory back as classes shrink
+		}
+		e.sets[old] = set
 		od := int(old) / classesPerPhase
 		oc := int(old) % classesPerPhase
 		e.sumW[od] -= int(triW[oc])
