@@ -2,6 +2,7 @@ package voxel
 
 import (
 	"fmt"
+	"math"
 	"sync"
 )
 
@@ -26,7 +27,7 @@ var (
 )
 
 // sphereVolume returns the voxel count of sphereMask(d) without building
-// the mask (cached).
+// the mask (cached), in O(d²).
 func sphereVolume(d int) int {
 	if d < 1 {
 		panic(fmt.Sprintf("voxel: sphereVolume: diameter %d < 1", d))
@@ -36,24 +37,53 @@ func sphereVolume(d int) int {
 	if v, ok := volCache[d]; ok {
 		return v
 	}
-	lo, hi, shift := -(d-1)/2, (d-1)/2, 0.0
-	if d%2 == 0 {
-		lo, hi, shift = -d/2, d/2-1, 0.5
-	}
-	r2 := float64(d) * float64(d) / 4
+	lo, hi := sphereRange(d)
 	v := 0
 	for dz := lo; dz <= hi; dz++ {
 		for dy := lo; dy <= hi; dy++ {
-			for dx := lo; dx <= hi; dx++ {
-				fx, fy, fz := float64(dx)+shift, float64(dy)+shift, float64(dz)+shift
-				if fx*fx+fy*fy+fz*fz <= r2 {
-					v++
-				}
+			if x0, x1, ok := rowExtent(d, dy, dz); ok {
+				v += x1 - x0 + 1
 			}
 		}
 	}
 	volCache[d] = v
 	return v
+}
+
+// sphereRange returns the offsets lo..hi a sphere of diameter d spans on
+// each axis.
+func sphereRange(d int) (lo, hi int) {
+	if d%2 == 0 {
+		return -d / 2, d/2 - 1
+	}
+	return -(d - 1) / 2, (d - 1) / 2
+}
+
+// rowExtent returns the x-run of the sphere of diameter d at (dy, dz):
+// the offsets dx whose voxel centre lies within d/2 of the sphere's
+// centre (see sphereMask). All quantities are exact in float64.
+func rowExtent(d, dy, dz int) (x0, x1 int, ok bool) {
+	shift := 0.0
+	if d%2 == 0 {
+		shift = 0.5
+	}
+	fy, fz := float64(dy)+shift, float64(dz)+shift
+	rem := float64(d)*float64(d)/4 - fy*fy - fz*fz
+	if rem < shift*shift {
+		return 0, 0, false
+	}
+	// largest m ≥ 0 with (m + shift)² ≤ rem
+	m := int(math.Sqrt(rem) - shift)
+	for m > 0 && (float64(m)+shift)*(float64(m)+shift) > rem {
+		m--
+	}
+	for (float64(m+1)+shift)*(float64(m+1)+shift) <= rem {
+		m++
+	}
+	if d%2 == 0 {
+		return -m - 1, m, true
+	}
+	return -m, m, true
 }
 
 // sphereMask returns the digitised sphere of diameter d voxels (cached;
@@ -77,26 +107,11 @@ func sphereMask(d int) *mask {
 
 // buildMask computes the mask; offsets run lo..hi on each axis.
 func buildMask(d int) *mask {
-	lo, hi, shift := -(d-1)/2, (d-1)/2, 0.0
-	if d%2 == 0 {
-		lo, hi, shift = -d/2, d/2-1, 0.5
-	}
-	r2 := float64(d) * float64(d) / 4
+	lo, hi := sphereRange(d)
 	m := &mask{d: d}
 	for dz := lo; dz <= hi; dz++ {
 		for dy := lo; dy <= hi; dy++ {
-			fy, fz := float64(dy)+shift, float64(dz)+shift
-			x0, x1 := hi+1, lo-1
-			for dx := lo; dx <= hi; dx++ {
-				fx := float64(dx) + shift
-				if fx*fx+fy*fy+fz*fz <= r2 {
-					if dx < x0 {
-						x0 = dx
-					}
-					x1 = dx
-				}
-			}
-			if x0 <= x1 {
+			if x0, x1, ok := rowExtent(d, dy, dz); ok {
 				m.spans = append(m.spans, span{int32(dy), int32(dz), int32(x0), int32(x1)})
 				m.volume += x1 - x0 + 1
 			}

@@ -39,7 +39,7 @@ func packBox(t testing.TB, n int, wc float64, seed uint64, onePhase bool, gap in
 func TestMaskNaive(t *testing.T) {
 	// The span mask against a naive voxel-by-voxel sphere test, and its
 	// face count against a brute-force count.
-	for d := 1; d <= 14; d++ {
+	for d := 1; d <= 31; d++ {
 		m := sphereMask(d)
 		lo, hi, sh := -(d-1)/2, (d-1)/2, 0.0
 		if d%2 == 0 {
