@@ -21,33 +21,71 @@ type mask struct {
 }
 
 var (
-	maskMu    sync.Mutex
-	maskCache = map[int]*mask{}
+	sizeMu    sync.Mutex
 	volCache  = map[int]int{}
+	faceCache = map[int]int{}
 )
 
-// sphereVolume returns the voxel count of sphereMask(d) without building
-// the mask (cached), in O(d²).
+// sphereVolume returns the voxel count of the digitised sphere of
+// diameter d (see sphereMask), in O(d²), cached.
 func sphereVolume(d int) int {
+	v, _ := sphereSize(d)
+	return v
+}
+
+// sphereFaces returns the number of exposed faces of the isolated
+// digitised sphere of diameter d, cached.
+func sphereFaces(d int) int {
+	_, f := sphereSize(d)
+	return f
+}
+
+// sphereSize computes volume and exposed faces from the row extents: 6
+// faces per voxel less 2 per shared face. A digitised sphere is convex
+// along each axis, so each (dy, dz) row is one run: a run of length L
+// shares L − 1 faces along x, and rows adjacent in y or z share the
+// overlap of their runs.
+func sphereSize(d int) (volume, faces int) {
 	if d < 1 {
-		panic(fmt.Sprintf("voxel: sphereVolume: diameter %d < 1", d))
+		panic(fmt.Sprintf("voxel: sphere diameter %d < 1", d))
 	}
-	maskMu.Lock()
-	defer maskMu.Unlock()
+	sizeMu.Lock()
+	defer sizeMu.Unlock()
 	if v, ok := volCache[d]; ok {
-		return v
+		return v, faceCache[d]
 	}
 	lo, hi := sphereRange(d)
-	v := 0
+	shared := 0
+	overlap := func(a0, a1, b0, b1 int) int {
+		l, h := max(a0, b0), min(a1, b1)
+		if h < l {
+			return 0
+		}
+		return h - l + 1
+	}
 	for dz := lo; dz <= hi; dz++ {
 		for dy := lo; dy <= hi; dy++ {
-			if x0, x1, ok := rowExtent(d, dy, dz); ok {
-				v += x1 - x0 + 1
+			x0, x1, ok := rowExtent(d, dy, dz)
+			if !ok {
+				continue
+			}
+			volume += x1 - x0 + 1
+			shared += x1 - x0
+			if dy < hi {
+				if t0, t1, ok := rowExtent(d, dy+1, dz); ok {
+					shared += overlap(x0, x1, t0, t1)
+				}
+			}
+			if dz < hi {
+				if t0, t1, ok := rowExtent(d, dy, dz+1); ok {
+					shared += overlap(x0, x1, t0, t1)
+				}
 			}
 		}
 	}
-	volCache[d] = v
-	return v
+	faces = 6*volume - 2*shared
+	volCache[d], faceCache[d] = volume, faces
+	return volume, faces
 }
 
 // sphereRange returns the offsets lo..hi a sphere of diameter d spans on
@@ -86,74 +124,25 @@ func rowExtent(d, dy, dz int) (x0, x1 int, ok bool) {
 	return -m, m, true
 }
 
-// sphereMask returns the digitised sphere of diameter d voxels (cached;
-// do not modify). The rule: a sphere of diameter d is centred on the centre
-// of its anchor voxel when d is odd and on the anchor's lower corner when d
-// is even, and holds every voxel whose centre lies within d/2 of that
-// centre. Diameter 1 is the anchor voxel alone, 2 the 2×2×2 cube.
+// sphereMask returns the digitised sphere of diameter d voxels as x-runs.
+// The rule: a sphere of diameter d is centred on the centre of its anchor
+// voxel when d is odd and on the anchor's lower corner when d is even, and
+// holds every voxel whose centre lies within d/2 of that centre. Diameter
+// 1 is the anchor voxel alone, 2 the 2×2×2 cube. Masks are not cached:
+// the packer holds one class's masks at a time.
 func sphereMask(d int) *mask {
 	if d < 1 {
 		panic(fmt.Sprintf("voxel: sphereMask: diameter %d < 1", d))
 	}
-	maskMu.Lock()
-	defer maskMu.Unlock()
-	if m, ok := maskCache[d]; ok {
-		return m
-	}
-	m := buildMask(d)
-	maskCache[d] = m
-	return m
-}
-
-// buildMask computes the mask; offsets run lo..hi on each axis.
-func buildMask(d int) *mask {
 	lo, hi := sphereRange(d)
 	m := &mask{d: d}
 	for dz := lo; dz <= hi; dz++ {
 		for dy := lo; dy <= hi; dy++ {
 			if x0, x1, ok := rowExtent(d, dy, dz); ok {
 				m.spans = append(m.spans, span{int32(dy), int32(dz), int32(x0), int32(x1)})
-				m.volume += x1 - x0 + 1
 			}
 		}
 	}
-	// Exposed faces: 6 per voxel less 2 per shared face. A sphere is convex
-	// along each axis, so runs are contiguous: x-runs share (len−1) faces;
-	// y and z neighbours share the overlap of their runs. runs[dy][dz] is
-	// the run at (dy, dz), x0 > x1 when empty.
-	w := hi - lo + 1
-	runs := make([]span, w*w)
-	for k := range runs {
-		runs[k] = span{x0: 1, x1: 0}
-	}
-	at := func(dy, dz int32) (span, bool) {
-		y, z := int(dy)-lo, int(dz)-lo
-		if y < 0 || y >= w || z < 0 || z >= w {
-			return span{}, false
-		}
-		s := runs[y+w*z]
-		return s, s.x0 <= s.x1
-	}
-	for _, s := range m.spans {
-		runs[int(s.dy)-lo+w*(int(s.dz)-lo)] = s
-	}
-	shared := 0
-	overlap := func(a, b span) int {
-		l, h := max(a.x0, b.x0), min(a.x1, b.x1)
-		if h < l {
-			return 0
-		}
-		return int(h - l + 1)
-	}
-	for _, s := range m.spans {
-		shared += int(s.x1 - s.x0)
-		if t, ok := at(s.dy+1, s.dz); ok {
-			shared += overlap(s, t)
-		}
-		if t, ok := at(s.dy, s.dz+1); ok {
-			shared += overlap(s, t)
-		}
-	}
-	m.faces = 6*m.volume - 2*shared
+	m.volume, m.faces = sphereSize(d)
 	return m
 }

@@ -320,8 +320,8 @@ func (c *Classes) SpecificSurfaceM2PerKg(densityGPerCM3 float64) float64 {
 		if c.Fraction[d] == 0 {
 			continue
 		}
-		m := sphereMask(d)
-		s += c.Fraction[d] * float64(m.faces) / float64(m.volume)
+		v, f := sphereSize(d)
+		s += c.Fraction[d] * float64(f) / float64(v)
 	}
 	return 1000 * s / (c.VoxelUM * densityGPerCM3)
 }
