@@ -287,19 +287,25 @@ func rawBlock(src []byte, hdr64 bool, bo binary.ByteOrder) ([]byte, error) {
 	return src[hs : hs+int(size)], nil
 }
 
-// decodeBase64Block decodes a base64 block whose header (the byte count)
-// is encoded separately from the data, as VTK writes it. When appended,
-// src runs on past the block: the header gives its length.
+// decodeBase64Block decodes one base64 block of a VTK file: a header
+// holding the byte count, then the data. VTK writers encode the two either
+// as one base64 stream or as two (header, then data); both are read. When
+// appended, src runs on past the block: the header gives its length.
 func decodeBase64Block(src []byte, hdr64 bool, bo binary.ByteOrder, appended bool) ([]byte, error) {
 	hs := 4
 	if hdr64 {
 		hs = 8
 	}
-	henc := base64.StdEncoding.EncodedLen(hs)
-	if len(src) < henc {
+	if !appended {
+		src = bytes.Join(bytes.Fields(src), nil)
+	}
+	enc := base64.StdEncoding
+	// The first hs bytes decode the same way under both layouts.
+	first := (hs + 2) / 3 * 4
+	if len(src) < first {
 		return nil, errors.New("truncated base64 header")
 	}
-	hb, err := base64.StdEncoding.DecodeString(string(src[:henc]))
+	hb, err := enc.DecodeString(string(src[:first]))
 	if err != nil || len(hb) < hs {
 		return nil, errors.New("bad base64 header")
 	}
@@ -312,23 +318,24 @@ func decodeBase64Block(src []byte, hdr64 bool, bo binary.ByteOrder, appended boo
 	if size > uint64(len(src)) {
 		return nil, fmt.Errorf("block of %d bytes, the file is shorter", size)
 	}
-	body := src[henc:]
-	if appended {
-		body = body[:min(len(body), base64.StdEncoding.EncodedLen(int(size)))]
-	}
-	out, err := base64.StdEncoding.DecodeString(strings.TrimSpace(string(body)))
-	if err != nil {
-		// header and data may be encoded together instead
-		all, err2 := base64.StdEncoding.DecodeString(strings.TrimSpace(string(src)))
-		if err2 != nil || len(all) < hs+int(size) {
-			return nil, fmt.Errorf("bad base64 data: %v", err)
+	n := int(size)
+	// one stream: header and data together
+	if k := enc.EncodedLen(hs + n); k <= len(src) {
+		if out, err := enc.DecodeString(string(src[:k])); err == nil && len(out) >= hs+n {
+			return out[hs : hs+n], nil
 		}
-		return all[hs : hs+int(size)], nil
 	}
-	if uint64(len(out)) < size {
-		return nil, fmt.Errorf("block of %d bytes, decoded %d", size, len(out))
+	// two streams
+	h := enc.EncodedLen(hs)
+	k := enc.EncodedLen(n)
+	if h+k > len(src) {
+		return nil, fmt.Errorf("block of %d bytes, the file is shorter", size)
 	}
-	return out[:size], nil
+	out, err := enc.DecodeString(string(src[h : h+k]))
+	if err != nil {
+		return nil, fmt.Errorf("bad base64 data: %v", err)
+	}
+	return out[:n], nil
 }
 
 func asciiToBytes(text, typ string, size int, bo binary.ByteOrder) ([]byte, error) {

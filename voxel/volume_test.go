@@ -229,3 +229,34 @@ func TestReadVolume(t *testing.T) {
 		t.Fatal(".raw accepted")
 	}
 }
+
+func TestForeignVolumes(t *testing.T) {
+	// Files written by VTK 9.1 (vtkXMLImageDataWriter, after reading
+	// gelspace's own file with vtkXMLImageDataReader) and by numpy.save:
+	// see testdata/volumes/README.md. Each must read back to the box
+	// gelspace wrote.
+	dir := filepath.Join("..", "testdata", "volumes")
+	ref, err := ReadVolume(filepath.Join(dir, "gelspace-12.vti"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	npy, err := ReadVolume(filepath.Join(dir, "gelspace-12.npy"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(ref.Phase, npy.Phase) {
+		t.Fatal("gelspace's vti and npy differ")
+	}
+	for _, name := range []string{"vtk-binary.vti", "vtk-appended-raw.vti", "vtk-appended-base64.vti", "vtk-ascii.vti",
+		"numpy-fortran-be-i8.npy", "numpy-le-i4.npy", "numpy-u2.npy"} {
+		g, err := ReadVolume(filepath.Join(dir, name))
+		if err != nil {
+			t.Errorf("%s: %v", name, err)
+			continue
+		}
+		sameGrid(t, &Grid{NX: ref.NX, NY: ref.NY, NZ: ref.NZ, VoxelUM: g.VoxelUM, Phase: ref.Phase}, g, false)
+		if strings.HasSuffix(name, ".vti") {
+			sameGrid(t, ref, g, true)
+		}
+	}
+}
