@@ -3,7 +3,6 @@ package percolation
 import (
 	"fmt"
 	"math"
-	"os"
 	"runtime"
 	"sync"
 
@@ -94,17 +93,15 @@ func DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, 
 // solves (a time series) allocate nothing once sized. The zero value is
 // ready to use; a Solver is not safe for concurrent use.
 type Solver struct {
-	lab   Labeler
-	in    []bool
-	dbuf  []float64
-	g     [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
-	invd  []float32    // Jacobi preconditioner; 0 outside the active set
-	r     []float64
-	p     []float64
-	q     []float64
-	part  [][3]float64 // per z plane partial sums, added in plane order
-	mg    []mgLevel    // multigrid hierarchy
-	useMG bool
+	lab  Labeler
+	in   []bool
+	dbuf []float64
+	g    [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
+	invd []float32    // Jacobi preconditioner; 0 outside the active set
+	r    []float64
+	p    []float64
+	q    []float64
+	part [][3]float64 // per z plane partial sums, added in plane order
 
 	// set per pass
 	op          int // passSetup, passMatvec, passUpdate, passDirection
@@ -186,7 +183,6 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 		workers = runtime.GOMAXPROCS(0)
 	}
 	s.box, s.d, s.workers = box, d, min(workers, box.NZ)
-	s.useMG = os.Getenv("GELSPACE_MG") != ""
 	n := box.Len()
 
 	// Conducting clusters: voxels with d > 0, joined where both are > 0,
@@ -349,11 +345,6 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 	s.axisA, s.cl = a, cl
 	s.parallel(passSetup)
 	rho, bb, c0 := s.sums()
-	if s.useMG {
-		s.mgBuild()
-		rho = s.mgPrecond()
-		copy(s.p, s.mg[0].x)
-	}
 	e := c0
 	var iter int
 	var rel float64
@@ -379,16 +370,6 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 			rel = math.Sqrt(rr) / bnorm
 			if rel <= tol {
 				break
-			}
-			if s.useMG {
-				rz = s.mgPrecond()
-				beta := rz / rho
-				rho = rz
-				z := s.mg[0].x
-				for i, pi := range s.p {
-					s.p[i] = z[i] + beta*pi
-				}
-				continue
 			}
 			s.beta = rz / rho
 			rho = rz
