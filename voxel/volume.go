@@ -153,12 +153,19 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		}
 		spacing = s[0]
 	}
-	g, err := NewGrid(nx, ny, nz, spacing)
-	if err != nil {
-		return nil, fmt.Errorf("vti: %v", err)
+	if !dimsOK(nx, ny, nz) {
+		return nil, fmt.Errorf("vti: WholeExtent %q: each axis must hold ≥ 1 cell and the total at most %d", h.Image.WholeExtent, int64(MaxVoxels))
 	}
-	n := g.Len()
-	foundPhase := false
+	n := nx * ny * nz
+	// Decode the arrays first: the grid is allocated only once the file
+	// is known to hold its data.
+	type decoded struct {
+		name   string
+		raw    []byte
+		size   int
+		signed bool
+	}
+	var arrays []decoded
 	for _, a := range h.Image.Piece[0].Cell.Arrays {
 		if a.Name != "phase" && a.Name != "particle" {
 			continue
@@ -198,10 +205,18 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		if len(raw) < n*size {
 			return nil, fmt.Errorf("vti: array %q: %d bytes, need %d for %d cells", a.Name, len(raw), n*size, n)
 		}
-		signed := a.Type[0] == 'I'
+		arrays = append(arrays, decoded{a.Name, raw, size, a.Type[0] == 'I'})
+	}
+	g, err := NewGrid(nx, ny, nz, spacing)
+	if err != nil {
+		return nil, fmt.Errorf("vti: %v", err)
+	}
+	foundPhase := false
+	for _, a := range arrays {
+		raw, size, signed := a.raw, a.size, a.signed
 		for i := 0; i < n; i++ {
 			v := readInt(raw[i*size:], size, signed, bo)
-			if a.Name == "phase" {
+			if a.name == "phase" {
 				if v < 0 || v > 255 {
 					return nil, fmt.Errorf("vti: phase %d at cell %d: must be between 0 and 255", v, i)
 				}
@@ -213,7 +228,7 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 				g.Particle[i] = int32(v)
 			}
 		}
-		if a.Name == "phase" {
+		if a.name == "phase" {
 			foundPhase = true
 		}
 	}
@@ -221,6 +236,15 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		return nil, errors.New(`vti: no "phase" cell array`)
 	}
 	return g, nil
+}
+
+// dimsOK reports whether a box of nx×ny×nz cells is allowed: each edge
+// ≥ 1 and the total at most MaxVoxels, without overflow.
+func dimsOK(nx, ny, nz int) bool {
+	if nx < 1 || ny < 1 || nz < 1 || nx > MaxVoxels || ny > MaxVoxels || nz > MaxVoxels {
+		return false
+	}
+	return int64(nx)*int64(ny) <= MaxVoxels && int64(nx)*int64(ny)*int64(nz) <= MaxVoxels
 }
 
 var intSizes = map[string]int{"Int8": 1, "UInt8": 1, "Int16": 2, "UInt16": 2, "Int32": 4, "UInt32": 4, "Int64": 8, "UInt64": 8}
@@ -427,7 +451,7 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 		return nil, 0, 0, 0, fmt.Errorf("npy: shape %v: need a 3D array (z, y, x)", shape)
 	}
 	nz, ny, nx = shape[0], shape[1], shape[2]
-	if nx < 1 || ny < 1 || nz < 1 || int64(nx)*int64(ny)*int64(nz) > MaxVoxels {
+	if !dimsOK(nx, ny, nz) {
 		return nil, 0, 0, 0, fmt.Errorf("npy: shape %v: each axis must be ≥ 1 and the total at most %d", shape, int64(MaxVoxels))
 	}
 	var bo binary.ByteOrder = binary.LittleEndian
@@ -447,7 +471,9 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 		return nil, 0, 0, 0, fmt.Errorf("npy: dtype %q: need an integer or boolean dtype (u1, i2, <i8, ...)", descr)
 	}
 	n := nx * ny * nz
-	phase = make([]uint8, n)
+	// grow with the data so that a short file cannot make us allocate the
+	// size its header claims
+	phase = make([]uint8, 0, min(n, 1<<24))
 	buf := make([]byte, 1<<16-(1<<16)%size)
 	for i := 0; i < n; {
 		m := min(len(buf)/size, n-i)
@@ -459,7 +485,7 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 			if v < 0 || v > 255 {
 				return nil, 0, 0, 0, fmt.Errorf("npy: value %d at element %d: labels must be between 0 and 255", v, i+k)
 			}
-			phase[i+k] = uint8(v)
+			phase = append(phase, uint8(v))
 		}
 		i += m
 	}
