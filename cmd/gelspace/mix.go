@@ -113,7 +113,7 @@ type BogueReport struct {
 	C2S          float64 `json:"c2s"`
 	C3A          float64 `json:"c3a"`
 	C4AF         float64 `json:"c4af"`
-	SolidSoluton bool    `json:"ferrite_solid_solution"`
+	SolidSolution bool    `json:"ferrite_solid_solution"`
 }
 
 // PSDReport holds the PSD statistics.
@@ -145,7 +145,7 @@ func (m *Mix) Report() MixReport {
 			VolumePercent: 100 * vol[id], PastePercent: 100 * m.Paste[id]})
 	}
 	if b := m.Bogue; b != nil {
-		rep.Bogue = &BogueReport{C3S: b.C3S, C2S: b.C2S, C3A: b.C3A, C4AF: b.C4AF, SolidSoluton: b.SS}
+		rep.Bogue = &BogueReport{C3S: b.C3S, C2S: b.C2S, C3A: b.C3A, C4AF: b.C4AF, SolidSolution: b.SS}
 	}
 	c := m.Classes
 	rep.PSD = PSDReport{Description: m.PSD.String(), D10UM: m.PSD.QuantileUM(0.1), D50UM: m.PSD.MedianUM(),
@@ -173,7 +173,7 @@ func printMix(w io.Writer, rep MixReport) {
 	tw.Flush()
 	if b := rep.Bogue; b != nil {
 		branch := "A/F ≥ 0.64"
-		if b.SolidSoluton {
+		if b.SolidSolution {
 			branch = "A/F < 0.64, ferrite solid solution reported as C4AF"
 		}
 		fmt.Fprintf(w, "\nBogue (ASTM C150 Annex A1, %s), mass %% of cement: C3S %.1f  C2S %.1f  C3A %.1f  C4AF %.1f\n", branch, b.C3S, b.C2S, b.C3A, b.C4AF)
