@@ -109,10 +109,10 @@ type PhaseReport struct {
 // BogueReport is the potential composition from the oxide analysis, mass %
 // of the cement before the sulfate carrier and normalisation.
 type BogueReport struct {
-	C3S          float64 `json:"c3s"`
-	C2S          float64 `json:"c2s"`
-	C3A          float64 `json:"c3a"`
-	C4AF         float64 `json:"c4af"`
+	C3S           float64 `json:"c3s"`
+	C2S           float64 `json:"c2s"`
+	C3A           float64 `json:"c3a"`
+	C4AF          float64 `json:"c4af"`
 	SolidSolution bool    `json:"ferrite_solid_solution"`
 }
 
