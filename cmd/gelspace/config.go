@@ -29,6 +29,8 @@ type Config struct {
 	Curing CuringConfig `toml:"curing"`
 	Output OutputConfig `toml:"output"`
 
+	Kinetics KineticsConfig `toml:"kinetics"`
+
 	Source string `toml:"-"` // where the config came from, for messages
 	Dir    string `toml:"-"` // folder that relative paths are read from
 	raw    *Raw
@@ -92,22 +94,38 @@ type CuringConfig struct {
 	Mode         string  `toml:"mode"`          // "saturated" or "sealed"
 	TemperatureC float64 `toml:"temperature_c"` // isothermal temperature, °C
 	UntilH       float64 `toml:"until_h"`       // age at which the run stops, h
+	// TemperatureMode is "isothermal" (default), "schedule" (Schedule, a
+	// CSV of time_h, temperature_c) or "adiabatic" (the paste's own heat
+	// raises its temperature from temperature_c).
+	TemperatureMode string `toml:"temperature_mode"`
+	Schedule        string `toml:"schedule"`
+	// HeatCapacityJPerGK is the paste's heat capacity per gram of paste for
+	// the adiabatic mode; 0 computes it from cement 0.75 and water 4.18.
+	HeatCapacityJPerGK float64 `toml:"heat_capacity_j_per_g_k"`
 }
 
 // OutputConfig says what to record.
 type OutputConfig struct {
 	TimesH []float64 `toml:"times_h"` // ages of the output rows, h
+	// SampleEveryH is the interval of the fine samples (samples.csv, the
+	// heat-flow curve), h.
+	SampleEveryH float64 `toml:"sample_every_h"`
+	// DiffusivityTimesH are the output ages at which D/D0 is computed;
+	// empty means the last one only. Diffusivity = false turns it off.
+	DiffusivityTimesH []float64 `toml:"diffusivity_times_h"`
+	Diffusivity       bool      `toml:"diffusivity"`
 }
 
 // Defaults returns the values of keys a config leaves out. The cement,
 // the PSD and mix.w_c have no default: a config must give them.
 func Defaults() *Config {
 	return &Config{
-		Seed:   1,
-		Box:    BoxConfig{Voxels: 100, VoxelUM: 1},
-		Pack:   PackConfig{CorrelationUM: 3},
-		Curing: CuringConfig{Mode: "saturated", TemperatureC: 20, UntilH: 672},
-		Output: OutputConfig{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}},
+		Seed:     1,
+		Box:      BoxConfig{Voxels: 100, VoxelUM: 1},
+		Pack:     PackConfig{CorrelationUM: 3},
+		Curing:   CuringConfig{Mode: "saturated", TemperatureC: 20, UntilH: 672},
+		Output:   OutputConfig{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}, SampleEveryH: 0.25, Diffusivity: true},
+		Kinetics: defaultKinetics(),
 	}
 }
 
@@ -266,6 +284,21 @@ func (c *Config) Validate() error {
 			return r.errAt("output.times_h", "entry %d = %g h: must not exceed curing.until_h = %g", i+1, t, c.Curing.UntilH)
 		}
 		prev = t
+	}
+	if !(c.Output.SampleEveryH >= 0.01 && c.Output.SampleEveryH <= 24) {
+		return r.errAt("output.sample_every_h", "%g h: must be between 0.01 and 24", c.Output.SampleEveryH)
+	}
+	for i, t := range c.Output.DiffusivityTimesH {
+		found := t == c.Curing.UntilH
+		for _, o := range c.Output.TimesH {
+			found = found || o == t
+		}
+		if !found {
+			return r.errAt("output.diffusivity_times_h", "entry %d = %g h: must be one of output.times_h or curing.until_h", i+1, t)
+		}
+	}
+	if _, err := engineSettings(c); err != nil {
+		return err
 	}
 	return nil
 }

@@ -37,7 +37,7 @@ type command struct {
 var commands []*command
 
 func init() {
-	commands = []*command{mixCommand(), packCommand()}
+	commands = []*command{runCommand(), mixCommand(), packCommand(), analyzeCommand(), renderCommand()}
 }
 
 // usageError is bad usage of the command line (exit status 2).

@@ -1,0 +1,344 @@
+package main
+
+import (
+	"bytes"
+	"encoding/gob"
+	"fmt"
+	"math"
+	"sort"
+
+	"gelspace/kinetics"
+	"gelspace/percolation"
+	"gelspace/voxel"
+)
+
+// A hydration run: the engine advanced through a schedule of sample ages;
+// cheap bookkeeping at every sample (for the heat curve), connectivity at
+// every output age, diffusivity where asked, and the set point and the
+// capillary-pore depercolation refined between output ages by bisection on
+// saved engine states.
+
+// Column names of series.csv and samples.csv, before the vol_<phase>
+// columns (DESIGN.md contract).
+var seriesHead = []string{"time_h", "temperature_c", "alpha", "alpha_c3s", "alpha_c2s", "alpha_c3a", "alpha_c4af",
+	"heat_j_per_g", "heat_flow_mw_per_g", "chem_shrinkage_ml_per_g", "water_consumed_g_per_g",
+	"nonevaporable_water_g_per_g", "capillary_porosity", "water_filled_porosity",
+	"solids_connected_fraction", "solids_span_axes", "pores_connected_fraction", "pores_span_axes", "rel_diffusivity"}
+
+// column indices used below
+const (
+	colTime = iota
+	colTemp
+	colAlpha
+	colAlphaC3S
+	colAlphaC2S
+	colAlphaC3A
+	colAlphaC4AF
+	colHeat
+	colFlow
+	colShrink
+	colWater
+	colNonEvap
+	colCapPor
+	colWaterPor
+	colSolidsFrac
+	colSolidsSpan
+	colPoresFrac
+	colPoresSpan
+	colDiff
+	nHead
+)
+
+// seriesColumns returns every column name, vol_<phase> included.
+func seriesColumns() []string {
+	cols := append([]string(nil), seriesHead...)
+	for _, p := range kinetics.Phases() {
+		cols = append(cols, "vol_"+p.Key)
+	}
+	return cols
+}
+
+// transition is a refined event: the set point or depercolation.
+type transition struct {
+	TimeH    float64 `json:"time_h"`
+	Alpha    float64 `json:"alpha"`
+	Porosity float64 `json:"capillary_porosity"`
+}
+
+// runState is the progress of a run apart from the engine; it is saved in
+// checkpoints (JSON) and is all that the outputs are made from.
+type runState struct {
+	Next     int         // index of the next sample age
+	Samples  [][]float64 // one row per sample age reached
+	Outputs  []int       // indices of the output rows in Samples
+	Frames   [][]byte    // mid xy plane at each output age
+	Diff     [][3]float64
+	DiffAt   []float64
+	Set      *transition
+	Deperc   *transition
+	PrevSnap []byte // engine at the last output age, while an event is pending
+	PrevH    float64
+	WallS    float64
+	// InitialSolid is the solid volume fraction of the packed box.
+	InitialSolid float64
+	Events       uint64
+}
+
+// schedule returns the sample ages: every sampleEvery hours, every output
+// age and the end, sorted, and which of them are outputs.
+func schedule(untilH, sampleEvery float64, outputs []float64) (ages []float64, isOut []bool) {
+	set := map[float64]bool{}
+	for k := 1; float64(k)*sampleEvery < untilH-1e-9; k++ {
+		set[math.Round(float64(k)*sampleEvery*1e6)/1e6] = false
+	}
+	for _, t := range outputs {
+		if t <= untilH {
+			set[t] = true
+		}
+	}
+	set[untilH] = true
+	for t := range set {
+		ages = append(ages, t)
+	}
+	sort.Float64s(ages)
+	for _, t := range ages {
+		isOut = append(isOut, set[t])
+	}
+	return ages, isOut
+}
+
+// hydration runs one paste.
+type hydration struct {
+	cfg   *Config
+	set   voxel.EngineSettings
+	e     *voxel.Engine
+	ages  []float64
+	isOut []bool
+	diffT map[float64]bool
+	st    runState
+	lab   percolation.Labeler
+	sol   percolation.Solver
+	box   percolation.Box
+}
+
+func newHydration(cfg *Config, set voxel.EngineSettings, e *voxel.Engine) *hydration {
+	h := &hydration{cfg: cfg, set: set, e: e}
+	h.ages, h.isOut = schedule(cfg.Curing.UntilH, cfg.Output.SampleEveryH, cfg.Output.TimesH)
+	h.diffT = map[float64]bool{}
+	if cfg.Output.Diffusivity {
+		for _, t := range cfg.Output.DiffusivityTimesH {
+			h.diffT[t] = true
+		}
+		if len(cfg.Output.DiffusivityTimesH) == 0 {
+			h.diffT[h.ages[len(h.ages)-1]] = true
+		}
+	}
+	g := e.Grid()
+	h.box = percolation.PeriodicBox(g.NX, g.NY, g.NZ)
+	return h
+}
+
+// row computes the cheap columns of the engine's present state; the
+// connectivity and diffusivity columns are NaN.
+func row(e *voxel.Engine, prev []float64) []float64 {
+	g := e.Grid()
+	n := float64(g.Len())
+	r := make([]float64, nHead, nHead+len(kinetics.Phases()))
+	for i := range r {
+		r[i] = math.NaN()
+	}
+	r[colTime] = e.TimeH()
+	r[colTemp] = e.TempC()
+	r[colAlpha] = e.Alpha()
+	r[colAlphaC3S] = e.AlphaOf(kinetics.C3S)
+	r[colAlphaC2S] = e.AlphaOf(kinetics.C2S)
+	r[colAlphaC3A] = e.AlphaOf(kinetics.C3A)
+	r[colAlphaC4AF] = e.AlphaOf(kinetics.C4AF)
+	r[colHeat] = e.HeatJPerG()
+	prevT, prevQ := 0.0, 0.0
+	if prev != nil {
+		prevT, prevQ = prev[colTime], prev[colHeat]
+	}
+	if dt := r[colTime] - prevT; dt > 0 {
+		r[colFlow] = (r[colHeat] - prevQ) / (dt * 3600) * 1000 // J/(g·s) → mW/g
+	}
+	r[colShrink] = e.ChemShrinkageMLPerG()
+	r[colWater] = e.WaterConsumedGPerG()
+	r[colNonEvap] = e.NonEvaporableGPerG()
+	r[colCapPor] = float64(e.Count(kinetics.Water)+e.Count(kinetics.Empty)) / n
+	r[colWaterPor] = float64(e.Count(kinetics.Water)) / n
+	for _, p := range kinetics.Phases() {
+		r = append(r, float64(e.Count(p.ID))/n)
+	}
+	return r
+}
+
+// connectivity labels solids and pores of the engine's present lattice.
+func (h *hydration) connectivity() (solids, pores percolation.Connectivity) {
+	g := h.e.Grid()
+	return h.lab.Solids(h.box, g.Phase, g.Particle), h.lab.Pores(h.box, g.Phase)
+}
+
+func isSet(c percolation.Connectivity) bool          { return c.SpanAxes == 3 }
+func isDepercolated(c percolation.Connectivity) bool { return c.SpanAxes == 0 }
+
+// snapshot saves the engine to memory.
+func (h *hydration) snapshot() ([]byte, error) {
+	var b bytes.Buffer
+	err := h.e.WriteCheckpoint(&b, &h.set, nil)
+	return b.Bytes(), err
+}
+
+// refine finds by bisection, between the last output age (saved in
+// PrevSnap) and hi, the first age at which test holds, to within 1 % of hi
+// or 0.05 h. Replays from a saved state follow the run exactly.
+func (h *hydration) refine(hi float64, test func(s, p percolation.Connectivity) bool) (*transition, error) {
+	lo := h.st.PrevH
+	snap := h.st.PrevSnap
+	var best *transition
+	for hi-lo > math.Max(0.05, 0.01*hi) {
+		mid := 0.5 * (lo + hi)
+		e, _, err := voxel.ReadCheckpoint(bytes.NewReader(snap), h.set)
+		if err != nil {
+			return nil, err
+		}
+		if err := e.AdvanceTo(mid); err != nil {
+			return nil, err
+		}
+		g := e.Grid()
+		s, p := h.lab.Solids(h.box, g.Phase, g.Particle), h.lab.Pores(h.box, g.Phase)
+		if test(s, p) {
+			hi = mid
+			best = &transition{TimeH: mid, Alpha: e.Alpha(), Porosity: capPor(e)}
+		} else {
+			lo = mid
+			var b bytes.Buffer
+			if err := e.WriteCheckpoint(&b, &h.set, nil); err != nil {
+				return nil, err
+			}
+			snap = b.Bytes()
+		}
+	}
+	return best, nil
+}
+
+func capPor(e *voxel.Engine) float64 {
+	return float64(e.Count(kinetics.Water)+e.Count(kinetics.Empty)) / float64(e.Grid().Len())
+}
+
+// midPlane copies the xy plane through the middle of the box.
+func midPlane(g *voxel.Grid) []byte {
+	z := g.NZ / 2
+	plane := g.NX * g.NY
+	return append([]byte(nil), g.Phase[z*plane:(z+1)*plane]...)
+}
+
+// step advances to the next sample age and records it. It reports false
+// when the schedule is done.
+func (h *hydration) step() (bool, error) {
+	k := h.st.Next
+	if k >= len(h.ages) {
+		return false, nil
+	}
+	t := h.ages[k]
+	if err := h.e.AdvanceTo(t); err != nil {
+		return false, err
+	}
+	var prev []float64
+	if n := len(h.st.Samples); n > 0 {
+		prev = h.st.Samples[n-1]
+	}
+	r := row(h.e, prev)
+	if h.isOut[k] {
+		s, p := h.connectivity()
+		r[colSolidsFrac], r[colSolidsSpan] = s.Fraction, float64(s.SpanAxes)
+		r[colPoresFrac], r[colPoresSpan] = p.Fraction, float64(p.SpanAxes)
+		if h.diffT[t] {
+			g := h.e.Grid()
+			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: 1})
+			if err != nil {
+				return false, fmt.Errorf("diffusivity at %g h: %w", t, err)
+			}
+			r[colDiff] = (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
+			h.st.Diff = append(h.st.Diff, d.Rel)
+			h.st.DiffAt = append(h.st.DiffAt, t)
+		}
+		if err := h.events(t, s, p); err != nil {
+			return false, err
+		}
+		h.st.Outputs = append(h.st.Outputs, len(h.st.Samples))
+		h.st.Frames = append(h.st.Frames, midPlane(h.e.Grid()))
+	}
+	h.st.Samples = append(h.st.Samples, r)
+	h.st.Next++
+	ev, _ := h.e.Events()
+	h.st.Events = ev
+	return true, nil
+}
+
+// events detects and refines the set point and depercolation at output age
+// t, then keeps the state needed for the next refinement.
+func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
+	if h.st.Set == nil && isSet(s) {
+		tr, err := h.refine(t, func(s, _ percolation.Connectivity) bool { return isSet(s) })
+		if err != nil {
+			return err
+		}
+		if tr == nil {
+			tr = &transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
+		}
+		h.st.Set = tr
+	}
+	if h.st.Deperc == nil && isDepercolated(p) {
+		tr, err := h.refine(t, func(_, p percolation.Connectivity) bool { return isDepercolated(p) })
+		if err != nil {
+			return err
+		}
+		if tr == nil {
+			tr = &transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
+		}
+		h.st.Deperc = tr
+	}
+	h.st.PrevSnap = nil
+	if h.st.Set == nil || h.st.Deperc == nil {
+		snap, err := h.snapshot()
+		if err != nil {
+			return err
+		}
+		h.st.PrevSnap = snap
+	}
+	h.st.PrevH = t
+	return nil
+}
+
+// start records the state at age 0 for the first refinement.
+func (h *hydration) start() error {
+	g := h.e.Grid()
+	solid := 0
+	for _, p := range g.Phase {
+		if kinetics.IsSolid(p) {
+			solid++
+		}
+	}
+	h.st.InitialSolid = float64(solid) / float64(g.Len())
+	snap, err := h.snapshot()
+	h.st.PrevSnap = snap
+	return err
+}
+
+// marshalState and unmarshalState carry runState through checkpoints (gob,
+// which keeps NaN).
+func (h *hydration) marshalState() ([]byte, error) {
+	var b bytes.Buffer
+	err := gob.NewEncoder(&b).Encode(&h.st)
+	return b.Bytes(), err
+}
+
+func (h *hydration) unmarshalState(b []byte) error {
+	var st runState
+	if err := gob.NewDecoder(bytes.NewReader(b)).Decode(&st); err != nil {
+		return err
+	}
+	h.st = st
+	return nil
+}
