@@ -494,54 +494,82 @@ func (s *Solver) setup(z0, z1 int) {
 //	(A p)_i = Σ_j g_ij (p_i − p_j)
 //
 // over the six bonds, plus the electrode conductance times p_i on the
-// faces of an open gradient axis.
+// faces of an open gradient axis. It walks the bonds to the +x, +y, +z
+// neighbours once each, adding the flux to one end and taking it from the
+// other. The bonds from plane z0−1 to z0 belong to the previous range: they
+// are computed again here, for plane z0 only, so that no two goroutines
+// write one plane, and every q_i receives its terms in the same order
+// whatever the ranges.
 func (s *Solver) matvec(z0, z1 int) {
-	nx, ny := s.box.NX, s.box.NY
+	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
+	plane := nx * ny
 	gx, gy, gz := s.g[0], s.g[1], s.g[2]
 	p, q := s.p, s.q
+	{
+		// Plane z0: clear it and take the bonds from plane z0−1.
+		zm := z0 - 1
+		if zm < 0 {
+			zm = nz - 1
+		}
+		lo := z0 * plane
+		qz, pz := q[lo:lo+plane], p[lo:lo+plane]
+		pm, gm := p[zm*plane:][:len(pz)], gz[zm*plane:][:len(pz)]
+		qz = qz[:len(pz)]
+		for i, pi := range pz {
+			qz[i] = float64(gm[i]) * (pi - pm[i])
+		}
+	}
 	for z := z0; z < z1; z++ {
-		var pq float64
+		lo := z * plane
+		zp := z + 1
+		last := zp == z1
+		if zp == nz {
+			zp = 0
+		}
+		if !last {
+			clear(q[zp*plane : zp*plane+plane])
+		}
 		for y := range ny {
-			row, ym, yp, zm, zp := s.rowOffsets(y, z)
+			row := lo + nx*y
+			yp := y + 1
+			if yp == ny {
+				yp = 0
+			}
+			rowY := lo + nx*yp
+			rowZ := zp*plane + nx*y
 			pr := p[row : row+nx]
 			n := len(pr)
 			qr := q[row : row+nx][:n]
-			pym, pyp := p[ym : ym+nx][:n], p[yp : yp+nx][:n]
-			pzm, pzp := p[zm : zm+nx][:n], p[zp : zp+nx][:n]
-			gxr := gx[row : row+nx][:n]
-			gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
-			gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
-			// The voxels x = 0 and x = nx−1 wrap; the others, in the loop
-			// below, do not. A voxel off the active set has p = 0 and
-			// bonds only to such voxels, so its q is 0.
-			for _, x := range [2]int{0, n - 1} {
-				xm, xp := x-1, x+1
-				if x == 0 {
-					xm = n - 1
-				}
-				if xp == n {
-					xp = 0
-				}
+			gxr, gyr, gzr := gx[row : row+nx][:n], gy[row : row+nx][:n], gz[row : row+nx][:n]
+			py, qy := p[rowY : rowY+nx][:n], q[rowY : rowY+nx][:n]
+			pz, qz := p[rowZ : rowZ+nx][:n], q[rowZ : rowZ+nx][:n]
+			var carry float64 // flux from the −x bond into the voxel
+			for x := 0; x < n-1; x++ {
 				pi := pr[x]
-				v := float64(gxr[x])*(pi-pr[xp]) + float64(gxr[xm])*(pi-pr[xm]) +
-					float64(gyr[x])*(pi-pyp[x]) + float64(gym[x])*(pi-pym[x]) +
-					float64(gzr[x])*(pi-pzp[x]) + float64(gzm[x])*(pi-pzm[x])
-				qr[x] = v
-				if n == 1 {
-					break
+				fx := float64(gxr[x]) * (pi - pr[x+1])
+				fy := float64(gyr[x]) * (pi - py[x])
+				fz := float64(gzr[x]) * (pi - pz[x])
+				qr[x] += carry + fx + fy + fz
+				carry = -fx
+				qy[x] -= fy
+				if !last {
+					qz[x] -= fz
 				}
 			}
-			if n > 2 {
-				k := n - 2
-				pc, pl, ph := pr[1:][:k], pr[:k], pr[2:][:k]
-				gl, gc := gxr[:k], gxr[1:][:k]
-				qc := qr[1:][:k]
-				pym, pyp, pzm, pzp := pym[1:][:k], pyp[1:][:k], pzm[1:][:k], pzp[1:][:k]
-				gyr, gym, gzr, gzm := gyr[1:][:k], gym[1:][:k], gzr[1:][:k], gzm[1:][:k]
-				for x, pi := range pc {
-					qc[x] = float64(gc[x])*(pi-ph[x]) + float64(gl[x])*(pi-pl[x]) +
-						float64(gyr[x])*(pi-pyp[x]) + float64(gym[x])*(pi-pym[x]) +
-						float64(gzr[x])*(pi-pzp[x]) + float64(gzm[x])*(pi-pzm[x])
+			{
+				x := n - 1
+				pi := pr[x]
+				fx := float64(gxr[x]) * (pi - pr[0])
+				fy := float64(gyr[x]) * (pi - py[x])
+				fz := float64(gzr[x]) * (pi - pz[x])
+				if n == 1 {
+					carry = -fx
+				}
+				qr[x] += carry + fx + fy + fz
+				qr[0] -= fx
+				qy[x] -= fy
+				if !last {
+					qz[x] -= fz
 				}
 			}
 			if s.onFace(y, z) {
@@ -552,9 +580,12 @@ func (s *Solver) matvec(z0, z1 int) {
 					}
 				}
 			}
-			for x, pi := range pr {
-				pq += pi * qr[x]
-			}
+		}
+		var pq float64
+		pz, qz := p[lo:lo+plane], q[lo:lo+plane]
+		qz = qz[:len(pz)]
+		for i, pi := range pz {
+			pq += pi * qz[i]
 		}
 		s.part[z] = [3]float64{pq, 0, 0}
 	}
