@@ -171,6 +171,10 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	return nil
 }
 
+// afterCheckpoint, when set (by tests), runs after each checkpoint is
+// saved; an error from it stops the run there, as a kill would.
+var afterCheckpoint func() error
+
 // RunParams steer executeRun.
 type RunParams struct {
 	Out        string           // output folder (created)
@@ -269,6 +273,11 @@ func executeRun(cfg *Config, man manifest, p RunParams) (*hydration, error) {
 				return nil, err
 			}
 			lastCk, lastWall = h.e.TimeH(), time.Now()
+			if afterCheckpoint != nil {
+				if err := afterCheckpoint(); err != nil {
+					return nil, err
+				}
+			}
 		}
 	}
 	if bar != nil {
