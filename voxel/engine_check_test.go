@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"math"
+	"os"
 	"testing"
 
 	"gelspace/kinetics"
@@ -247,5 +248,32 @@ func TestReproducibleAndResume(t *testing.T) {
 	other.Seed++
 	if _, _, err := ReadCheckpoint(bytes.NewReader(saved), other); !errors.Is(err, ErrCheckpoint) {
 		t.Errorf("mismatched checkpoint: %v", err)
+	}
+}
+
+// TestResolutionLong: rates are per unit surface area, so halving the voxel
+// edge should change α(t) little. The same 60 µm box of the demo paste at
+// 1 µm (60³) and 0.5 µm (120³) voxels: α within 0.05 at 1, 7 and 28 days
+// (the band; DESIGN.md behaviour 6). Long opt-in set.
+func TestResolutionLong(t *testing.T) {
+	if os.Getenv("GELSPACE_LONG") == "" {
+		t.Skip("long validation study; set GELSPACE_LONG=1")
+	}
+	days := []float64{24, 168, 672}
+	alpha := func(n int, h float64) []float64 {
+		e := newTestEngine(t, enginePaste(t, n, h, 0.45, 1), 20, false, 1)
+		var out []float64
+		for _, s := range runTo(t, e, days) {
+			out = append(out, s.alpha)
+		}
+		return out
+	}
+	coarse, fine := alpha(60, 1), alpha(120, 0.5)
+	for k, d := range days {
+		if diff := math.Abs(coarse[k] - fine[k]); diff > 0.05 {
+			t.Errorf("at %g h: α %.3f at 1 µm, %.3f at 0.5 µm (difference %.3f > 0.05)", d, coarse[k], fine[k], diff)
+		} else {
+			t.Logf("at %g h: α %.3f at 1 µm, %.3f at 0.5 µm", d, coarse[k], fine[k])
+		}
 	}
 }
