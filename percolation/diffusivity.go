@@ -93,15 +93,20 @@ func DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, 
 // solves (a time series) allocate nothing once sized. The zero value is
 // ready to use; a Solver is not safe for concurrent use.
 type Solver struct {
-	lab  Labeler
-	in   []bool
-	dbuf []float64
-	g    [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
-	invd []float32    // Jacobi preconditioner; 0 outside the active set
-	r    []float64
-	p    []float64
-	q    []float64
-	part [][3]float64 // per z plane partial sums, added in plane order
+	lab         Labeler
+	in          []bool
+	dbuf        []float64
+	g           [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
+	invd        []float32    // Jacobi preconditioner; 0 outside the active set
+	r           []float64
+	p           []float64
+	q           []float64
+	part        [][3]float64 // per z plane partial sums, added in plane order
+	dg          []float64    // diagonal of A, for the coarse levels
+	z, t        []float64    // multigrid: preconditioned residual, scratch
+	mg          []mgLevel    // multigrid coarse levels
+	mvIn, mvOut []float64    // vectors of matvec
+	jacobiOnly  bool         // tests: Jacobi preconditioner alone
 
 	// set per pass
 	op          int // passSetup, passMatvec, passUpdate, passDirection
@@ -194,6 +199,9 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	cl := s.lab.Label(box, s.in)
 	s.conductances()
 	s.invd = grow(s.invd, n)
+	s.dg = grow(s.dg, n)
+	s.z = grow(s.z, n)
+	s.t = grow(s.t, n)
 	s.r = grow(s.r, n)
 	s.p = grow(s.p, n)
 	s.q = grow(s.q, n)
@@ -345,6 +353,16 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 	s.axisA, s.cl = a, cl
 	s.parallel(passSetup)
 	rho, bb, c0 := s.sums()
+	s.mvIn, s.mvOut = s.p, s.q
+	s.mg = s.mg[:0]
+	if !s.jacobiOnly {
+		s.mgBuild()
+	}
+	useMG := len(s.mg) > 0
+	if useMG && bb > 0 {
+		rho = s.mgPrecond()
+		copy(s.p, s.z)
+	}
 	e := c0
 	var iter int
 	var rel float64
@@ -370,6 +388,15 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 			rel = math.Sqrt(rr) / bnorm
 			if rel <= tol {
 				break
+			}
+			if useMG {
+				rz = s.mgPrecond()
+				beta := rz / rho
+				rho = rz
+				for i, pi := range s.p {
+					s.p[i] = s.z[i] + beta*pi
+				}
+				continue
 			}
 			s.beta = rz / rho
 			rho = rz
@@ -458,7 +485,7 @@ func (s *Solver) setup(z0, z1 int) {
 				}
 				c := cl.Label[i]
 				if c < 0 || !cl.Spans[c][a] {
-					s.invd[i], s.r[i], s.p[i] = 0, 0, 0
+					s.invd[i], s.dg[i], s.r[i], s.p[i] = 0, 0, 0, 0
 					continue
 				}
 				diag := float64(gx[i]) + float64(gx[row+xm]) + float64(gy[i]) + float64(gy[ym+x]) + float64(gz[i]) + float64(gz[zm+x])
@@ -479,6 +506,7 @@ func (s *Solver) setup(z0, z1 int) {
 					m = float32(1 / diag)
 				}
 				s.invd[i] = m
+				s.dg[i] = diag
 				s.r[i] = b
 				s.p[i] = float64(m) * b
 				rz += float64(m) * b * b
@@ -504,7 +532,7 @@ func (s *Solver) matvec(z0, z1 int) {
 	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
 	plane := nx * ny
 	gx, gy, gz := s.g[0], s.g[1], s.g[2]
-	p, q := s.p, s.q
+	p, q := s.mvIn, s.mvOut
 	{
 		// Plane z0: clear it and take the bonds from plane z0−1.
 		zm := z0 - 1

@@ -87,8 +87,10 @@
 // the constant as a null vector; its right-hand side is consistent, and
 // conjugate gradients converge on it without pinning.
 //
-// The linear system is solved by conjugate gradients with a Jacobi
-// (diagonal) preconditioner, matrix-free, from w = 0, until the relative
+// The linear system is solved matrix-free by preconditioned conjugate
+// gradients from w = 0, the preconditioner being one V-cycle of
+// aggregation multigrid with damped-Jacobi smoothing (see mg.go; a box of at
+// most 512 voxels uses the Jacobi diagonal alone), until the relative
 // residual ‖b − Aw‖₂/‖b‖₂ falls below DiffusivityOptions.Tol (default 1e-6)
 // or the iteration cap is hit (an error, with the estimate reached). The
 // dissipation is tracked from the CG step lengths without storing w (see
