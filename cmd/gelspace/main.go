@@ -1,5 +1,6 @@
-// Command gelspace builds digital cement pastes and (as the engine lands)
-// hydrates them. See gelspace --help.
+// Command gelspace builds digital cement pastes, hydrates them and measures
+// their set point, capillary-pore depercolation and transport. See
+// gelspace --help.
 package main
 
 import (
@@ -37,7 +38,7 @@ type command struct {
 var commands []*command
 
 func init() {
-	commands = []*command{runCommand(), mixCommand(), packCommand(), analyzeCommand(), renderCommand()}
+	commands = []*command{runCommand(), mixCommand(), packCommand(), analyzeCommand(), renderCommand(), sweepCommand()}
 }
 
 // usageError is bad usage of the command line (exit status 2).
@@ -128,7 +129,8 @@ func newFlagSet(c *command) *pflag.FlagSet {
 }
 
 func topUsage(w io.Writer) {
-	fmt.Fprintf(w, `gelspace %s — digital cement paste: from a cement and a w/c to a 3D voxel box.
+	fmt.Fprintf(w, `gelspace %s — hydration of Portland-cement paste in a 3D voxel box: set point,
+capillary-pore depercolation, heat, phases and diffusivity from a cement and a w/c.
 
 Usage:
   gelspace <command> [arguments] [flags]
@@ -136,7 +138,7 @@ Usage:
 Commands:
 `, version)
 	for _, c := range commands {
-		fmt.Fprintf(w, "  %-6s %s\n", c.name, c.summary)
+		fmt.Fprintf(w, "  %-8s %s\n", c.name, c.summary)
 	}
 	fmt.Fprintf(w, `
 Run 'gelspace <command> --help' for a command's flags and examples.
