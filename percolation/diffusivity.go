@@ -286,6 +286,11 @@ const (
 	passMatvec
 	passUpdate
 	passDirection
+	passMGSmooth0
+	passMGRestrict
+	passMGProlong
+	passMGSmooth1
+	passMGDirection
 )
 
 // parallel runs pass op over contiguous ranges of z planes, one range per
@@ -319,6 +324,8 @@ func (s *Solver) pass(z0, z1 int) {
 		s.update(z0, z1)
 	case passDirection:
 		s.direction(z0, z1)
+	default:
+		s.mgPass(s.op, z0, z1)
 	}
 }
 
@@ -391,11 +398,9 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 			}
 			if useMG {
 				rz = s.mgPrecond()
-				beta := rz / rho
+				s.beta = rz / rho
 				rho = rz
-				for i, pi := range s.p {
-					s.p[i] = s.z[i] + beta*pi
-				}
+				s.parallel(passMGDirection)
 				continue
 			}
 			s.beta = rz / rho

@@ -272,50 +272,82 @@ func (s *Solver) mgBuild() {
 
 // mgPrecond computes z = M r by one V-cycle from the fine level (damped
 // Jacobi before and after the coarse correction, which is symmetric) and
-// returns r·z. z is 0 off the active set.
+// returns r·z. z is 0 off the active set. The fine-level passes run in
+// parallel over z planes with per-plane sums, like the rest of the solve.
 func (s *Solver) mgPrecond() float64 {
-	f, x, t, m := s.r, s.z, s.t, s.invd
-	for i, fi := range f {
-		x[i] = mgOmega * float64(m[i]) * fi
-	}
-	s.mvIn, s.mvOut = x, t
+	s.parallel(passMGSmooth0)
+	s.mvIn, s.mvOut = s.z, s.t
 	s.parallel(passMatvec)
-	c := &s.mg[0]
-	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
-	cx, cy := c.nx, c.ny
-	cf := c.f[:c.len()]
-	clear(cf)
-	for z := range nz {
-		for y := range ny {
-			row := nx * (y + ny*z)
-			cr := cf[cx*(y>>1+cy*(z>>1)):][:cx]
-			fr, tr := f[row:row+nx], t[row : row+nx][:nx]
-			for xx, v := range fr {
-				cr[xx>>1] += v - tr[xx]
-			}
-		}
-	}
+	s.parallel(passMGRestrict)
 	s.vcycle(0)
-	cxv := c.x[:c.len()]
-	for z := range nz {
-		for y := range ny {
-			row := nx * (y + ny*z)
-			cr := cxv[cx*(y>>1+cy*(z>>1)):][:cx]
-			xr, mr := x[row:row+nx], m[row : row+nx][:nx]
-			for xx := range xr {
-				if mr[xx] != 0 {
-					xr[xx] += cr[xx>>1]
+	s.parallel(passMGProlong)
+	s.parallel(passMatvec)
+	s.mvIn, s.mvOut = s.p, s.q
+	s.parallel(passMGSmooth1)
+	rz, _, _ := s.sums()
+	return rz
+}
+
+// mgPass runs the fine-level multigrid pass op on the planes [z0, z1).
+func (s *Solver) mgPass(op, z0, z1 int) {
+	nx, ny := s.box.NX, s.box.NY
+	plane := nx * ny
+	f, x, t, m := s.r, s.z, s.t, s.invd
+	c := &s.mg[0]
+	cx, cy := c.nx, c.ny
+	switch op {
+	case passMGSmooth0: // z = ω D⁻¹ r
+		lo, hi := z0*plane, z1*plane
+		for i, fi := range f[lo:hi] {
+			x[lo+i] = mgOmega * float64(m[lo+i]) * fi
+		}
+	case passMGRestrict: // coarse f = Pᵀ (r − A z), per coarse plane
+		for Z := (z0 + 1) / 2; 2*Z < z1; Z++ {
+			cf := c.f[cx*cy*Z:][:cx*cy]
+			clear(cf)
+			for z := 2 * Z; z < min(2*Z+2, s.box.NZ); z++ {
+				for y := range ny {
+					row := nx * (y + ny*z)
+					cr := cf[cx*(y>>1):][:cx]
+					fr, tr := f[row:row+nx], t[row : row+nx][:nx]
+					for xx, v := range fr {
+						cr[xx>>1] += v - tr[xx]
+					}
 				}
 			}
 		}
+	case passMGProlong: // z += P (coarse z), on the active set
+		for z := z0; z < z1; z++ {
+			for y := range ny {
+				row := nx * (y + ny*z)
+				cr := c.x[cx*(y>>1+cy*(z>>1)):][:cx]
+				xr, mr := x[row:row+nx], m[row : row+nx][:nx]
+				for xx := range xr {
+					if mr[xx] != 0 {
+						xr[xx] += cr[xx>>1]
+					}
+				}
+			}
+		}
+	case passMGSmooth1: // z += ω D⁻¹ (r − A z), part = (r·z, 0, 0)
+		for z := z0; z < z1; z++ {
+			lo := z * plane
+			fr := f[lo : lo+plane]
+			xr, tr, mr := x[lo : lo+plane][:len(fr)], t[lo : lo+plane][:len(fr)], m[lo : lo+plane][:len(fr)]
+			var rz float64
+			for i, fi := range fr {
+				xi := xr[i] + mgOmega*float64(mr[i])*(fi-tr[i])
+				xr[i] = xi
+				rz += fi * xi
+			}
+			s.part[z] = [3]float64{rz, 0, 0}
+		}
+	case passMGDirection: // p = z + βp
+		lo, hi := z0*plane, z1*plane
+		beta := s.beta
+		p := s.p[lo:hi]
+		for i, zi := range x[lo:hi][:len(p)] {
+			p[i] = zi + beta*p[i]
+		}
 	}
-	s.parallel(passMatvec)
-	var rz float64
-	for i, fi := range f {
-		xi := x[i] + mgOmega*float64(m[i])*(fi-t[i])
-		x[i] = xi
-		rz += fi * xi
-	}
-	s.mvIn, s.mvOut = s.p, s.q
-	return rz
 }
