@@ -341,7 +341,8 @@ func (s *Solver) sums() (a, b, c float64) {
 }
 
 // axis solves for the fluctuation w with a unit gradient along axis a by
-// Jacobi-preconditioned conjugate gradients from w = 0 and returns D/D0,
+// preconditioned conjugate gradients (multigrid, or Jacobi on tiny boxes)
+// from w = 0 and returns D/D0,
 // the iterations and the relative residual reached.
 //
 // D/D0 is the dissipation E(w)/V of the potential u = w − x_a (see the
