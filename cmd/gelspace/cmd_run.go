@@ -154,6 +154,9 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	if err != nil {
 		return err
 	}
+	if err := checkRunMemory(cfg); err != nil {
+		return err
+	}
 	if o.out == "" {
 		return &usageError{"run: --out must name a folder"}
 	}
@@ -167,6 +170,35 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	}
 	if !o.quiet {
 		fmt.Fprintln(stdout, runSummaryLine(h, o.out))
+	}
+	return nil
+}
+
+// Memory a run takes per voxel: the engine's lattice and classes (about 11
+// bytes, BenchmarkHydrate100) with the labelling buffers, and the
+// diffusivity solver's vectors when D/D0 is asked for.
+const (
+	runBytesPerVoxel  = 24
+	diffBytesPerVoxel = 100
+)
+
+// checkRunMemory refuses, before anything is allocated, a box whose run
+// would not fit in the memory available.
+func checkRunMemory(cfg *Config) error {
+	n := float64(cfg.Box.Voxels)
+	per := float64(runBytesPerVoxel)
+	if cfg.Output.Diffusivity {
+		per += diffBytesPerVoxel
+	}
+	need, avail := n*n*n*per, float64(availableBytes())
+	if need > avail {
+		max := int(math.Cbrt(avail / per))
+		line := 0
+		if cfg.raw != nil {
+			line = cfg.raw.Line("box.voxels")
+		}
+		return &InputError{File: cfg.Source, Line: line, Key: "box.voxels",
+			Msg: fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here (or set output.diffusivity = false)", cfg.Box.Voxels, cfg.Box.Voxels, need/1e9, avail/1e9, max)}
 	}
 	return nil
 }
