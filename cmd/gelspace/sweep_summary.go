@@ -1,0 +1,478 @@
+package main
+
+// Sweep summaries: summary.csv (one row per point and replicate),
+// summary_stats.csv (per point: count, mean, standard deviation and 95 %
+// confidence interval over the replicates) and plots/ (each output against
+// the first swept axis, one line per value of the other axes, error bars =
+// the 95 % interval). They are built from the point folders alone, in
+// point order, so gelspace sweep and gelspace sweep collect write the same
+// files whatever the number of jobs or the order the points finished in.
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+	"gonum.org/v1/gonum/stat"
+	"gonum.org/v1/gonum/stat/distuv"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/plotutil"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+)
+
+// sweepOutput is one result column of the summaries.
+type sweepOutput struct {
+	Name  string // column name (units in the name)
+	Label string // axis label
+	get   func(s *RunSummary) float64
+}
+
+// Ages (days) of the α and heat columns.
+var sweepAgesD = []float64{1, 3, 7, 28}
+
+func sweepOutputs() []sweepOutput {
+	opt := func(p *float64) float64 {
+		if p == nil {
+			return math.NaN()
+		}
+		return *p
+	}
+	outs := []sweepOutput{
+		{"set_time_h", "set time, h", func(s *RunSummary) float64 { return opt(s.SetTimeH) }},
+		{"set_alpha", "degree of hydration at set", func(s *RunSummary) float64 { return opt(s.SetAlpha) }},
+		{"depercolation_time_h", "capillary-pore depercolation time, h", func(s *RunSummary) float64 { return opt(s.DepercolationTimeH) }},
+	}
+	for _, d := range sweepAgesD {
+		at := func(s *RunSummary) *AgeValues {
+			for i := range s.AtAge {
+				if math.Abs(s.AtAge[i].Days-d) < 1e-6 {
+					return &s.AtAge[i]
+				}
+			}
+			return nil
+		}
+		outs = append(outs,
+			sweepOutput{fmt.Sprintf("alpha_%gd", d), fmt.Sprintf("degree of hydration at %g d", d), func(s *RunSummary) float64 {
+				if a := at(s); a != nil {
+					return a.Alpha
+				}
+				return math.NaN()
+			}},
+			sweepOutput{fmt.Sprintf("heat_j_per_g_%gd", d), fmt.Sprintf("heat at %g d, J/g", d), func(s *RunSummary) float64 {
+				if a := at(s); a != nil {
+					return a.HeatJPerG
+				}
+				return math.NaN()
+			}})
+	}
+	outs = append(outs,
+		sweepOutput{"capillary_porosity_final", "capillary porosity at the end", func(s *RunSummary) float64 { return s.Final.CapillaryPorosity }},
+		sweepOutput{"rel_diffusivity_final", "D/D0 at the end (mean of x, y, z)", func(s *RunSummary) float64 {
+			for _, d := range s.RelDiffusivity {
+				if math.Abs(d.TimeH-s.Final.TimeH) < 1e-9 {
+					return (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
+				}
+			}
+			return math.NaN()
+		}})
+	return outs
+}
+
+// Point statuses in summary.csv.
+const (
+	statusOK      = "ok"
+	statusFailed  = "failed"
+	statusMissing = "missing"
+)
+
+// sweepRow is one point and replicate.
+type sweepRow struct {
+	P      planPoint
+	Status string
+	Vals   []float64 // per output; NaN when absent
+}
+
+// collectRows reads every point folder of pl in dir. A point finished by
+// gelspace run (plan mode) without a marker counts as complete when its
+// outputs are all there and its run.json records the point's config; its
+// marker is then written.
+func collectRows(dir string, pl *sweepPlan) ([]sweepRow, error) {
+	outs := sweepOutputs()
+	rows := make([]sweepRow, len(pl.Points))
+	for i, p := range pl.Points {
+		pd := filepath.Join(dir, sweepPointsDir, p.Name)
+		r := sweepRow{P: p, Status: statusMissing, Vals: make([]float64, len(outs))}
+		for k := range r.Vals {
+			r.Vals[k] = math.NaN()
+		}
+		complete := pointComplete(pd)
+		if !complete && finishedByRun(pd) {
+			if err := writeMarker(pd, 0); err != nil {
+				return nil, err
+			}
+			complete = true
+		}
+		switch {
+		case complete:
+			data, err := os.ReadFile(filepath.Join(pd, "summary.json"))
+			if err != nil {
+				return nil, err
+			}
+			var s RunSummary
+			if err := json.Unmarshal(data, &s); err != nil {
+				return nil, &InputError{File: filepath.Join(pd, "summary.json"), Msg: "malformed run summary: " + err.Error()}
+			}
+			r.Status = statusOK
+			for k, o := range outs {
+				r.Vals[k] = o.get(&s)
+			}
+		case fileExists(filepath.Join(pd, pointErrorFile)):
+			r.Status = statusFailed
+		}
+		rows[i] = r
+	}
+	return rows, nil
+}
+
+// finishedByRun reports whether gelspace run finished the point folder
+// with its present config: every output written (phases.csv is the last
+// without images, report.html the last with them), no checkpoint left,
+// the summary no older than run.json, and run.json's config equal to
+// config.toml's.
+func finishedByRun(pd string) bool {
+	last := "phases.csv"
+	if fileExists(filepath.Join(pd, "report.html")) || fileExists(filepath.Join(pd, "slices")) {
+		last = "report.html"
+	}
+	for _, f := range []string{"summary.json", "series.csv", last} {
+		if !fileExists(filepath.Join(pd, f)) {
+			return false
+		}
+	}
+	if fileExists(filepath.Join(pd, checkpointFile)) {
+		return false
+	}
+	ms, err1 := os.Stat(filepath.Join(pd, runManifest))
+	ss, err2 := os.Stat(filepath.Join(pd, "summary.json"))
+	if err1 != nil || err2 != nil || ss.ModTime().Before(ms.ModTime()) {
+		return false
+	}
+	data, err := os.ReadFile(filepath.Join(pd, runManifest))
+	if err != nil {
+		return false
+	}
+	var man manifest
+	if json.Unmarshal(data, &man) != nil || man.Version != version {
+		return false
+	}
+	raw, err := LoadRaw(filepath.Join(pd, pointConfigFile))
+	if err != nil {
+		return false
+	}
+	text, err := toml.Marshal(raw.Tree)
+	return err == nil && string(text) == man.ConfigText
+}
+
+func fileExists(p string) bool { _, err := os.Stat(p); return err == nil }
+
+// fmtCell formats a number for the summaries: empty for NaN, 10
+// significant digits otherwise.
+func fmtCell(v float64) string {
+	if math.IsNaN(v) {
+		return ""
+	}
+	return strconv.FormatFloat(v, 'g', 10, 64)
+}
+
+func csvCell(s string) string {
+	if strings.ContainsAny(s, ",\"\n") {
+		return `"` + strings.ReplaceAll(s, `"`, `""`) + `"`
+	}
+	return s
+}
+
+// writeSummaryCSV writes summary.csv.
+func writeSummaryCSV(w io.Writer, pl *sweepPlan, rows []sweepRow) error {
+	var b bytes.Buffer
+	head := []string{"point", "replicate", "folder"}
+	for _, a := range pl.Axes {
+		head = append(head, csvCell(a.Key))
+	}
+	head = append(head, "seed", "status")
+	for _, o := range sweepOutputs() {
+		head = append(head, o.Name)
+	}
+	b.WriteString(strings.Join(head, ",") + "\n")
+	for _, r := range rows {
+		cells := []string{strconv.Itoa(r.P.Point), strconv.Itoa(r.P.Replicate), r.P.Name}
+		for ai, a := range pl.Axes {
+			cells = append(cells, csvCell(a.Values[r.P.Values[ai]]))
+		}
+		cells = append(cells, strconv.FormatInt(r.P.Seed, 10), r.Status)
+		for _, v := range r.Vals {
+			cells = append(cells, fmtCell(v))
+		}
+		b.WriteString(strings.Join(cells, ",") + "\n")
+	}
+	_, err := w.Write(b.Bytes())
+	return err
+}
+
+// replicateStats are one output's statistics over a point's replicates.
+type replicateStats struct {
+	N                int     // replicates with a value (e.g. that depercolated)
+	Mean, SD, CI95   float64 // NaN when N is too small (mean: N < 1; SD, CI: N < 2)
+	Lo95, Hi95, TQ95 float64
+}
+
+// statsOf returns the mean, the sample standard deviation and the 95 %
+// confidence interval of the mean, mean ± t·sd/√n, with t the 0.975
+// quantile of Student's t distribution with n − 1 degrees of freedom
+// (gonum/stat/distuv.StudentsT). NaN values (a replicate that did not set
+// or depercolate) are left out, not averaged as zeros.
+func statsOf(vals []float64) replicateStats {
+	var x []float64
+	for _, v := range vals {
+		if !math.IsNaN(v) {
+			x = append(x, v)
+		}
+	}
+	s := replicateStats{N: len(x), Mean: math.NaN(), SD: math.NaN(), CI95: math.NaN(), Lo95: math.NaN(), Hi95: math.NaN(), TQ95: math.NaN()}
+	if s.N == 0 {
+		return s
+	}
+	s.Mean = stat.Mean(x, nil)
+	if s.N < 2 {
+		return s
+	}
+	s.SD = stat.StdDev(x, nil)
+	s.TQ95 = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(s.N - 1)}.Quantile(0.975)
+	s.CI95 = s.TQ95 * s.SD / math.Sqrt(float64(s.N))
+	s.Lo95, s.Hi95 = s.Mean-s.CI95, s.Mean+s.CI95
+	return s
+}
+
+// pointStats groups rows by point (rows are in point order) and returns,
+// per point, its first row and the statistics of every output.
+func pointStats(rows []sweepRow) (first []sweepRow, stats [][]replicateStats, runs []int) {
+	nOut := len(sweepOutputs())
+	for i := 0; i < len(rows); {
+		j := i
+		for j < len(rows) && rows[j].P.Point == rows[i].P.Point {
+			j++
+		}
+		ok := 0
+		st := make([]replicateStats, nOut)
+		for k := range nOut {
+			var v []float64
+			for _, r := range rows[i:j] {
+				if r.Status == statusOK {
+					v = append(v, r.Vals[k])
+				}
+			}
+			st[k] = statsOf(v)
+		}
+		for _, r := range rows[i:j] {
+			if r.Status == statusOK {
+				ok++
+			}
+		}
+		first, stats, runs = append(first, rows[i]), append(stats, st), append(runs, ok)
+		i = j
+	}
+	return first, stats, runs
+}
+
+// writeStatsCSV writes summary_stats.csv: per point, the axis values, the
+// replicates planned and finished, and per output <name>_n (replicates
+// with a value: for depercolation_time_h, how many depercolated),
+// _mean, _sd and _ci95 (half-width of the 95 % interval: mean ± ci95).
+func writeStatsCSV(w io.Writer, pl *sweepPlan, rows []sweepRow) error {
+	var b bytes.Buffer
+	head := []string{"point"}
+	for _, a := range pl.Axes {
+		head = append(head, csvCell(a.Key))
+	}
+	head = append(head, "replicates", "replicates_ok")
+	for _, o := range sweepOutputs() {
+		head = append(head, o.Name+"_n", o.Name+"_mean", o.Name+"_sd", o.Name+"_ci95")
+	}
+	b.WriteString(strings.Join(head, ",") + "\n")
+	first, stats, runs := pointStats(rows)
+	for i, r := range first {
+		cells := []string{strconv.Itoa(r.P.Point)}
+		for ai, a := range pl.Axes {
+			cells = append(cells, csvCell(a.Values[r.P.Values[ai]]))
+		}
+		cells = append(cells, strconv.Itoa(pl.Replicates), strconv.Itoa(runs[i]))
+		for _, s := range stats[i] {
+			cells = append(cells, strconv.Itoa(s.N), fmtCell(s.Mean), fmtCell(s.SD), fmtCell(s.CI95))
+		}
+		b.WriteString(strings.Join(cells, ",") + "\n")
+	}
+	_, err := w.Write(b.Bytes())
+	return err
+}
+
+// writeSweepSummaries writes summary.csv, summary_stats.csv and the plots
+// into dir.
+func writeSweepSummaries(dir string, pl *sweepPlan, rows []sweepRow) error {
+	if err := WriteFileAtomic(filepath.Join(dir, "summary.csv"), func(w io.Writer) error { return writeSummaryCSV(w, pl, rows) }); err != nil {
+		return err
+	}
+	if err := WriteFileAtomic(filepath.Join(dir, "summary_stats.csv"), func(w io.Writer) error { return writeStatsCSV(w, pl, rows) }); err != nil {
+		return err
+	}
+	return writeSweepPlots(filepath.Join(dir, "plots"), pl, rows)
+}
+
+// plotLine is one line of a summary plot: the points sharing the values
+// of every axis but the first.
+type plotLine struct {
+	label string
+	xys   plotter.XYs
+	errs  plotter.YErrors
+}
+
+// summaryLines groups the point statistics of output k into lines over
+// the first axis (x: its numeric value, or its position when it is not a
+// number).
+func summaryLines(pl *sweepPlan, first []sweepRow, stats [][]replicateStats, k int) (lines []*plotLine, nominal bool) {
+	ax := pl.Axes[0]
+	for _, n := range ax.Num {
+		if n == nil {
+			nominal = true
+		}
+	}
+	byLabel := map[string]*plotLine{}
+	for i, r := range first {
+		var parts []string
+		for ai := 1; ai < len(pl.Axes); ai++ {
+			if pl.Axes[ai].Zip && pl.Axes[0].Zip || len(pl.Axes[ai].Values) < 2 {
+				continue // varies with the first axis, or does not vary
+			}
+			parts = append(parts, pl.Axes[ai].Key+" = "+pl.Axes[ai].Values[r.P.Values[ai]])
+		}
+		label := strings.Join(parts, ", ")
+		l := byLabel[label]
+		if l == nil {
+			l = &plotLine{label: label}
+			byLabel[label] = l
+			lines = append(lines, l)
+		}
+		s := stats[i][k]
+		if math.IsNaN(s.Mean) {
+			continue
+		}
+		vi := r.P.Values[0]
+		x := float64(vi)
+		if !nominal {
+			x = *ax.Num[vi]
+		}
+		e := s.CI95
+		if math.IsNaN(e) {
+			e = 0
+		}
+		l.xys = append(l.xys, plotter.XY{X: x, Y: s.Mean})
+		l.errs = append(l.errs, struct{ Low, High float64 }{e, e})
+	}
+	return lines, nominal
+}
+
+// errPoints joins points and their error bars for plotter.NewYErrorBars.
+type errPoints struct {
+	plotter.XYs
+	plotter.YErrors
+}
+
+// writeSweepPlots draws each output that has a value at any point against
+// the first swept axis, PNG and SVG.
+func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
+	if len(pl.Axes) == 0 {
+		return nil
+	}
+	first, stats, _ := pointStats(rows)
+	for k, o := range sweepOutputs() {
+		lines, nominal := summaryLines(pl, first, stats, k)
+		has := false
+		for _, l := range lines {
+			has = has || len(l.xys) > 0
+		}
+		if !has {
+			continue
+		}
+		p := plot.New()
+		p.Title.Text = o.Label + " (mean ± 95 % CI)"
+		p.X.Label.Text = pl.Axes[0].Key
+		p.Y.Label.Text = o.Label
+		p.Add(plotter.NewGrid())
+		if nominal {
+			p.NominalX(pl.Axes[0].Values...)
+		}
+		for i, l := range lines {
+			if len(l.xys) == 0 {
+				continue
+			}
+			c := plotutil.Color(i)
+			line, pts, err := plotter.NewLinePoints(l.xys)
+			if err != nil {
+				return err
+			}
+			line.Color = c
+			line.Width = vg.Points(1.5)
+			pts.Color = c
+			pts.Shape = draw.CircleGlyph{}
+			pts.Radius = vg.Points(2.5)
+			eb, err := plotter.NewYErrorBars(errPoints{l.xys, l.errs})
+			if err != nil {
+				return err
+			}
+			eb.Color = c
+			eb.LineStyle.Width = vg.Points(1)
+			p.Add(line, pts, eb)
+			if l.label != "" {
+				p.Legend.Add(l.label, line, pts)
+			}
+		}
+		p.Legend.Top = true
+		p.Legend.Left = true
+		p.Legend.TextStyle.Color = color.Black
+		// room for the error bars at the ends and for the legend on top
+		if !nominal {
+			lo, hi := p.X.Min, p.X.Max
+			pad := 0.05 * (hi - lo)
+			if pad == 0 {
+				pad = 0.5
+			}
+			p.X.Min, p.X.Max = lo-pad, hi+pad
+		}
+		span := p.Y.Max - p.Y.Min
+		if span == 0 {
+			span = math.Max(1e-3, math.Abs(p.Y.Max))
+		}
+		p.Y.Max += 0.08 * span * float64(len(lines)+1)
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return err
+		}
+		for _, ext := range []string{"png", "svg"} {
+			wt, err := p.WriterTo(16*vg.Centimeter, 11*vg.Centimeter, ext)
+			if err != nil {
+				return err
+			}
+			if err := WriteFileAtomic(filepath.Join(dir, o.Name+"."+ext), func(w io.Writer) error { _, err := wt.WriteTo(w); return err }); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
