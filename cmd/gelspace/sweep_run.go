@@ -245,7 +245,7 @@ type pointFailure struct {
 // sweepStats counts what runSweep did.
 type sweepStats struct {
 	Total, Skipped, Ran int
-	Failed             []pointFailure // in point order
+	Failed              []pointFailure // in point order
 }
 
 // runSweep runs every incomplete point of pl in dir with jobs workers.
