@@ -156,3 +156,47 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 	e.r = rand.New(e.pcg)
 	return e, d.Extra, nil
 }
+
+// Clone returns an independent copy of the engine in its present state: it
+// goes on exactly as the original would. It is the in-memory counterpart of
+// a checkpoint, for replays (refining an event between two output ages).
+func (e *Engine) Clone() *Engine {
+	c := *e
+	c.g = e.g.Clone()
+	c.cls = append([]uint8(nil), e.cls...)
+	c.slot = append([]int32(nil), e.slot...)
+	c.sets = make([][]int32, len(e.sets))
+	for k, s := range e.sets {
+		c.sets[k] = append(make([]int32, 0, cap(s)), s...)
+	}
+	c.sumW = append([]int(nil), e.sumW...)
+	c.sumH = append([]int(nil), e.sumH...)
+	c.arrD = append([]float64(nil), e.arrD...)
+	c.rates = append([]float64(nil), e.rates...)
+	c.s = e.s.clone()
+	pcg := *e.pcg
+	c.pcg = &pcg
+	c.r = rand.New(c.pcg)
+	return &c
+}
+
+func (s state) clone() state {
+	c := s
+	for q := range s.Free {
+		c.Free[q] = append([]int32(nil), s.Free[q]...)
+		c.Fails[q] = append([]uint8(nil), s.Fails[q]...)
+	}
+	c.Acc = make([][]float64, len(s.Acc))
+	for k := range s.Acc {
+		c.Acc[k] = append([]float64(nil), s.Acc[k]...)
+	}
+	c.Spawned = make([][]int, len(s.Spawned))
+	for k := range s.Spawned {
+		c.Spawned[k] = append([]int(nil), s.Spawned[k]...)
+	}
+	c.RxVoxels = append([]int(nil), s.RxVoxels...)
+	c.PartLeft = append([]int32(nil), s.PartLeft...)
+	c.EmptyList = append([]int32(nil), s.EmptyList...)
+	c.RNG = append([]byte(nil), s.RNG...)
+	return c
+}

@@ -311,3 +311,20 @@ func TestThermalModes(t *testing.T) {
 		t.Errorf("schedule at 5 h: %.3f °C, want 20", got)
 	}
 }
+
+// TestCloneGoesOnAlike: a clone and its original, advanced to the same age,
+// hold the same lattice; advancing the clone leaves the original alone.
+func TestCloneGoesOnAlike(t *testing.T) {
+	e := newTestEngine(t, enginePaste(t, 30, 1, 0.45, 18), 20, true, 3)
+	runTo(t, e, []float64{6})
+	before := append([]uint8(nil), e.Grid().Phase...)
+	c := e.Clone()
+	runTo(t, c, []float64{40})
+	if !bytes.Equal(before, e.Grid().Phase) {
+		t.Fatal("advancing the clone changed the original")
+	}
+	runTo(t, e, []float64{40})
+	if !bytes.Equal(c.Grid().Phase, e.Grid().Phase) || c.HeatJPerG() != e.HeatJPerG() {
+		t.Error("clone and original differ at the same age")
+	}
+}

@@ -175,10 +175,11 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 }
 
 // Memory a run takes per voxel: the engine's lattice and classes (about 11
-// bytes, BenchmarkHydrate100) with the labelling buffers, and the
+// bytes, BenchmarkHydrate100) twice (a copy is kept for refining the set
+// point and depercolation) with the labelling buffers, and the
 // diffusivity solver's vectors when D/D0 is asked for.
 const (
-	runBytesPerVoxel  = 24
+	runBytesPerVoxel  = 36
 	diffBytesPerVoxel = 100
 )
 

@@ -116,6 +116,7 @@ type hydration struct {
 	isOut []bool
 	diffT map[float64]bool
 	st    runState
+	prev  *voxel.Engine // the engine at the last output age, while an event is pending
 	lab   percolation.Labeler
 	sol   percolation.Solver
 	box   percolation.Box
@@ -182,26 +183,16 @@ func (h *hydration) connectivity() (solids, pores percolation.Connectivity) {
 func isSet(c percolation.Connectivity) bool          { return c.SpanAxes == 3 }
 func isDepercolated(c percolation.Connectivity) bool { return c.SpanAxes == 0 }
 
-// snapshot saves the engine to memory.
-func (h *hydration) snapshot() ([]byte, error) {
-	var b bytes.Buffer
-	err := h.e.WriteCheckpoint(&b, &h.set, nil)
-	return b.Bytes(), err
-}
-
-// refine finds by bisection, between the last output age (saved in
-// PrevSnap) and hi, the first age at which test holds, to within 1 % of hi
-// or 0.05 h. Replays from a saved state follow the run exactly.
+// refine finds by bisection, between the last output age (h.prev) and
+// hi, the first age at which test holds, to within 1 % of hi or 0.05 h.
+// Replays from a saved state follow the run exactly.
 func (h *hydration) refine(hi float64, test func(s, p percolation.Connectivity) bool) (*transition, error) {
 	lo := h.st.PrevH
-	snap := h.st.PrevSnap
+	base := h.prev
 	var best *transition
 	for hi-lo > math.Max(0.05, 0.01*hi) {
 		mid := 0.5 * (lo + hi)
-		e, _, err := voxel.ReadCheckpoint(bytes.NewReader(snap), h.set)
-		if err != nil {
-			return nil, err
-		}
+		e := base.Clone()
 		if err := e.AdvanceTo(mid); err != nil {
 			return nil, err
 		}
@@ -212,11 +203,7 @@ func (h *hydration) refine(hi float64, test func(s, p percolation.Connectivity) 
 			best = &transition{TimeH: mid, Alpha: e.Alpha(), Porosity: capPor(e)}
 		} else {
 			lo = mid
-			var b bytes.Buffer
-			if err := e.WriteCheckpoint(&b, &h.set, nil); err != nil {
-				return nil, err
-			}
-			snap = b.Bytes()
+			base = e
 		}
 	}
 	return best, nil
@@ -299,13 +286,9 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		}
 		h.st.Deperc = tr
 	}
-	h.st.PrevSnap = nil
+	h.prev = nil
 	if h.st.Set == nil || h.st.Deperc == nil {
-		snap, err := h.snapshot()
-		if err != nil {
-			return err
-		}
-		h.st.PrevSnap = snap
+		h.prev = h.e.Clone()
 	}
 	h.st.PrevH = t
 	return nil
@@ -321,16 +304,25 @@ func (h *hydration) start() error {
 		}
 	}
 	h.st.InitialSolid = float64(solid) / float64(g.Len())
-	snap, err := h.snapshot()
-	h.st.PrevSnap = snap
-	return err
+	h.prev = h.e.Clone()
+	return nil
 }
 
 // marshalState and unmarshalState carry runState through checkpoints (gob,
 // which keeps NaN).
+// The engine kept for refinement travels as its own checkpoint.
 func (h *hydration) marshalState() ([]byte, error) {
+	h.st.PrevSnap = nil
+	if h.prev != nil {
+		var b bytes.Buffer
+		if err := h.prev.WriteCheckpoint(&b, &h.set, nil); err != nil {
+			return nil, err
+		}
+		h.st.PrevSnap = b.Bytes()
+	}
 	var b bytes.Buffer
 	err := gob.NewEncoder(&b).Encode(&h.st)
+	h.st.PrevSnap = nil
 	return b.Bytes(), err
 }
 
@@ -340,5 +332,14 @@ func (h *hydration) unmarshalState(b []byte) error {
 		return err
 	}
 	h.st = st
+	h.prev = nil
+	if len(st.PrevSnap) > 0 {
+		e, _, err := voxel.ReadCheckpoint(bytes.NewReader(st.PrevSnap), h.set)
+		if err != nil {
+			return err
+		}
+		h.prev = e
+	}
+	h.st.PrevSnap = nil
 	return nil
 }
