@@ -217,6 +217,10 @@ type RunParams struct {
 	Images     bool             // write slices, plots and report
 	Progress   bool             // show a progress bar when Stderr is a terminal
 	Stderr     io.Writer
+	// Workers bounds the goroutines of the diffusivity solve and of the
+	// image rendering; 0 means all cores. Sweeps, which run one point per
+	// core, pass 1. Results do not depend on it.
+	Workers int
 }
 
 // executeRun packs (or loads) and hydrates the paste of cfg and writes all
@@ -245,6 +249,7 @@ func executeRun(cfg *Config, man manifest, p RunParams) (*hydration, error) {
 			return nil, &InputError{File: path, Msg: err.Error()}
 		}
 		h = newHydration(cfg, set, e)
+		h.workers = p.Workers
 		if err := h.unmarshalState(extra); err != nil {
 			return nil, &InputError{File: path, Msg: "checkpoint progress record: " + err.Error()}
 		}
@@ -270,6 +275,7 @@ func executeRun(cfg *Config, man manifest, p RunParams) (*hydration, error) {
 			return nil, &InputError{File: cfg.Source, Key: "kinetics", Msg: err.Error()}
 		}
 		h = newHydration(cfg, set, e)
+		h.workers = p.Workers
 		if err := h.start(); err != nil {
 			return nil, err
 		}

@@ -117,9 +117,12 @@ type hydration struct {
 	diffT map[float64]bool
 	st    runState
 	prev  *voxel.Engine // the engine at the last output age, while an event is pending
-	lab   percolation.Labeler
-	sol   percolation.Solver
-	box   percolation.Box
+	// workers bounds the diffusivity solve's and the rendering's
+	// goroutines (0: all cores).
+	workers int
+	lab     percolation.Labeler
+	sol     percolation.Solver
+	box     percolation.Box
 }
 
 func newHydration(cfg *Config, set voxel.EngineSettings, e *voxel.Engine) *hydration {
@@ -242,7 +245,7 @@ func (h *hydration) step() (bool, error) {
 		r[colPoresFrac], r[colPoresSpan] = p.Fraction, float64(p.SpanAxes)
 		if h.diffT[t] {
 			g := h.e.Grid()
-			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: 1})
+			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers})
 			if err != nil {
 				return false, fmt.Errorf("diffusivity at %g h: %w", t, err)
 			}
