@@ -8,7 +8,9 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"sort"
+	"sync"
 
 	"github.com/BurntSushi/toml"
 
@@ -179,6 +181,9 @@ func writeRunOutputs(dir string, m *Mix, h *hydration, withImages bool) error {
 }
 
 // writeRunImages writes slices/, plots/, timelapse.gif and report.html.
+// The images are independent jobs run on up to h.workers goroutines; what
+// the report embeds is kept in fixed slots, so the page does not depend on
+// the order in which jobs finish.
 func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
 	g := h.e.Grid()
 	cfg := h.cfg
@@ -188,57 +193,70 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
 			return err
 		}
 	}
-	var reportSlices []render.Image
-	// The mid xy plane at every output age, both looks.
+	nOut := len(h.st.Outputs)
+	final := h.st.Samples[len(h.st.Samples)-1][colTime]
+	sliceImgs := make([]*render.Image, nOut) // report slot per output age (phase look)
+	var finalImgs [2]*render.Image           // report: cut-away, grey mid slice
+	var figs []render.Figure
 	var frames []render.Frame
+	var jobs []func() error
 	for k, idx := range h.st.Outputs {
-		age := h.st.Samples[idx][colTime]
+		k, age := k, h.st.Samples[idx][colTime]
 		frames = append(frames, render.Frame{AgeH: age, Phase: h.st.Frames[k]})
 		plane := render.Volume{Phase: h.st.Frames[k], NX: g.NX, NY: g.NY, NZ: 1, VoxelUM: g.VoxelUM}
 		for _, look := range []render.Look{render.LookPhase, render.LookBSE} {
-			img, err := render.RenderSlice(plane, render.PlaneXY, 0, render.SliceOptions{Look: look, ShowAge: true, AgeH: age,
-				Title: fmt.Sprintf("xy slice at z = %d (%g µm)", g.NZ/2, float64(g.NZ/2)*g.VoxelUM)})
-			if err != nil {
-				return err
-			}
-			name := fmt.Sprintf("t%07.2fh_xy_z%03d_%s.png", age, g.NZ/2, look)
-			if err := render.WritePNG(filepath.Join(sliceDir, name), img); err != nil {
-				return err
-			}
-			if look == render.LookPhase && (k == 0 || k == len(h.st.Outputs)-1 || reportAge(age)) {
+			look := look
+			jobs = append(jobs, func() error {
+				img, err := render.RenderSlice(plane, render.PlaneXY, 0, render.SliceOptions{Look: look, ShowAge: true, AgeH: age,
+					Title: fmt.Sprintf("xy slice at z = %d (%g µm)", g.NZ/2, float64(g.NZ/2)*g.VoxelUM)})
+				if err != nil {
+					return err
+				}
 				var b bytes.Buffer
 				if err := png.Encode(&b, img); err != nil {
 					return err
 				}
-				reportSlices = append(reportSlices, render.Image{Name: fmt.Sprintf("slice_%d", k), Caption: fmt.Sprintf("Mid xy slice at %s", ageLabel(age)), PNG: b.Bytes()})
-			}
+				name := fmt.Sprintf("t%07.2fh_xy_z%03d_%s.png", age, g.NZ/2, look)
+				if err := writeBytes(filepath.Join(sliceDir, name), b.Bytes()); err != nil {
+					return err
+				}
+				if look == render.LookPhase && (k == 0 || k == nOut-1 || reportAge(age)) {
+					sliceImgs[k] = &render.Image{Name: fmt.Sprintf("slice_%d", k), Caption: fmt.Sprintf("Mid xy slice at %s", ageLabel(age)), PNG: b.Bytes()}
+				}
+				return nil
+			})
 		}
 	}
-	if err := render.WriteFileAtomic(filepath.Join(dir, "timelapse.gif"), func(w io.Writer) error {
-		return render.WriteTimeLapse(w, frames, g.NX, g.NY, 1, g.VoxelUM, render.PlaneXY, 0, render.SliceOptions{Look: render.LookPhase})
-	}); err != nil {
-		return err
-	}
-	final := h.st.Samples[len(h.st.Samples)-1][colTime]
-	written, err := render.RenderVolume(sliceDir, g.Phase, g.NX, g.NY, g.NZ, g.VoxelUM, render.Options{ShowAge: true, AgeH: final, Prefix: "final_"})
-	if err != nil {
-		return err
-	}
-	for _, p := range written {
-		base := filepath.Base(p)
-		if base == "final_cutaway_phase.png" || base == "final_slice_xy_z"+fmt.Sprintf("%03d", g.NZ/2)+"_bse.png" {
-			data, err := os.ReadFile(p)
+	jobs = append(jobs, func() error {
+		return render.WriteFileAtomic(filepath.Join(dir, "timelapse.gif"), func(w io.Writer) error {
+			return render.WriteTimeLapse(w, frames, g.NX, g.NY, 1, g.VoxelUM, render.PlaneXY, 0, render.SliceOptions{Look: render.LookPhase})
+		})
+	})
+	for slot, look := range []render.Look{render.LookPhase, render.LookBSE} {
+		slot, look := slot, look
+		jobs = append(jobs, func() error {
+			written, err := render.RenderVolume(sliceDir, g.Phase, g.NX, g.NY, g.NZ, g.VoxelUM,
+				render.Options{Looks: []render.Look{look}, ShowAge: true, AgeH: final, Prefix: "final_"})
 			if err != nil {
 				return err
 			}
-			caption := "3D cut-away at " + ageLabel(final)
-			if base != "final_cutaway_phase.png" {
+			want, caption := "final_cutaway_phase.png", "3D cut-away at "+ageLabel(final)
+			if slot == 1 {
+				want = render.SliceFileName("final_", render.PlaneXY, g.NZ/2, render.LookBSE)
 				caption = "Backscattered-electron-like grey scale, mid xy slice at " + ageLabel(final)
 			}
-			reportSlices = append(reportSlices, render.Image{Name: "final_" + fmt.Sprint(len(reportSlices)), Caption: caption, PNG: data})
-		}
+			for _, p := range written {
+				if filepath.Base(p) == want {
+					data, err := os.ReadFile(p)
+					if err != nil {
+						return err
+					}
+					finalImgs[slot] = &render.Image{Name: fmt.Sprintf("final_%d", slot), Caption: caption, PNG: data}
+				}
+			}
+			return nil
+		})
 	}
-	// Plots from the fine samples.
 	series := &render.Series{Columns: seriesColumns(), Rows: h.st.Samples}
 	setH, depH := math.NaN(), math.NaN()
 	if h.st.Set != nil {
@@ -247,21 +265,33 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
 	if h.st.Deperc != nil {
 		depH = h.st.Deperc.TimeH
 	}
-	figs, err := render.RenderPlots(series, render.PlotOptions{WC: cfg.Mix.WC, SetTimeH: setH, DepercolationTimeH: depH})
-	if err != nil {
-		return err
-	}
-	var plots []render.Image
-	for _, f := range figs {
-		for _, ext := range []struct {
-			name string
-			data []byte
-		}{{".png", f.PNG}, {".svg", f.SVG}} {
-			data := ext.data
-			if err := WriteFileAtomic(filepath.Join(plotDir, f.Name+ext.name), func(w io.Writer) error { _, err := w.Write(data); return err }); err != nil {
+	jobs = append(jobs, func() error {
+		var err error
+		figs, err = render.RenderPlots(series, render.PlotOptions{WC: cfg.Mix.WC, SetTimeH: setH, DepercolationTimeH: depH})
+		if err != nil {
+			return err
+		}
+		for _, f := range figs {
+			if err := writeBytes(filepath.Join(plotDir, f.Name+".png"), f.PNG); err != nil {
+				return err
+			}
+			if err := writeBytes(filepath.Join(plotDir, f.Name+".svg"), f.SVG); err != nil {
 				return err
 			}
 		}
+		return nil
+	})
+	if err := runJobs(h.workers, jobs); err != nil {
+		return err
+	}
+	var reportSlices []render.Image
+	for _, im := range append(sliceImgs, finalImgs[:]...) {
+		if im != nil {
+			reportSlices = append(reportSlices, *im)
+		}
+	}
+	var plots []render.Image
+	for _, f := range figs {
 		plots = append(plots, render.Image{Name: f.Name, Caption: f.Title, PNG: f.PNG})
 	}
 	text, err := h.configText()
@@ -278,6 +308,42 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
 		ConfigText: text,
 	}
 	return WriteFileAtomic(filepath.Join(dir, "report.html"), func(w io.Writer) error { return render.WriteReport(w, rep) })
+}
+
+// writeBytes writes data to path through a temporary name.
+func writeBytes(path string, data []byte) error {
+	return WriteFileAtomic(path, func(w io.Writer) error { _, err := w.Write(data); return err })
+}
+
+// runJobs runs jobs on up to workers goroutines (0: all cores) and returns
+// the error of the first job, in job order, that failed.
+func runJobs(workers int, jobs []func() error) error {
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	errs := make([]error, len(jobs))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < min(workers, len(jobs)); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for k := range next {
+				errs[k] = jobs[k]()
+			}
+		}()
+	}
+	for k := range jobs {
+		next <- k
+	}
+	close(next)
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // configText is the resolved config as TOML.
