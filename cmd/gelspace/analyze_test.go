@@ -1,0 +1,109 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"gelspace/voxel"
+)
+
+// TestAnalyzeNumPyFromPython reads a volume that NumPy itself wrote (see
+// testdata/volumes/README.md), maps its labels and checks the JSON
+// contract and the porosity against a count of the labels.
+func TestAnalyzeNumPyFromPython(t *testing.T) {
+	path := filepath.Join("..", "..", "testdata", "volumes", "numpy-le-i4.npy")
+	f, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	phase, nx, ny, nz, err := voxel.ReadNPY(f)
+	f.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	pores := 0
+	labels := map[uint8]bool{}
+	for _, p := range phase {
+		labels[p] = true
+		if p < 10 {
+			pores++
+		}
+	}
+	// Map every label: pores 0–9 to pore, C-S-H to csh, the rest to solid.
+	var parts []string
+	for l := range labels {
+		class := "solid"
+		switch {
+		case l < 10:
+			class = "pore"
+		case l == 30 || l == 31:
+			class = "csh"
+		}
+		parts = append(parts, strconv.Itoa(int(l))+"="+class)
+	}
+	var out bytes.Buffer
+	var stderr bytes.Buffer
+	if code := Main([]string{"analyze", path, "--map", strings.Join(parts, ","), "--json"}, &out, &stderr); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr.String())
+	}
+	var rep map[string]any
+	if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
+		t.Fatalf("not JSON: %v\n%s", err, out.String())
+	}
+	for _, k := range []string{"porosity", "pores_connected_fraction", "pores_span_axes", "solids_connected_fraction", "solids_span_axes", "rel_diffusivity"} {
+		if _, ok := rep[k]; !ok {
+			t.Errorf("--json lacks %q", k)
+		}
+	}
+	want := float64(pores) / float64(nx*ny*nz)
+	if got := rep["porosity"].(float64); math.Abs(got-want) > 1e-12 {
+		t.Errorf("porosity %g, labels say %g", got, want)
+	}
+	if d := rep["rel_diffusivity"].([]any); len(d) != 3 {
+		t.Errorf("rel_diffusivity has %d entries, want 3", len(d))
+	}
+}
+
+// TestAnalyzeRefusesUnmappedLabels: labels an imported image holds but the
+// map does not name are refused with exit 2.
+func TestAnalyzeRefusesUnmappedLabels(t *testing.T) {
+	path := filepath.Join("..", "..", "testdata", "volumes", "numpy-le-i4.npy")
+	var stderr bytes.Buffer
+	if code := Main([]string{"analyze", path, "--map", "0=pore"}, io.Discard, &stderr); code != 2 || !strings.Contains(stderr.String(), "not in --map") {
+		t.Errorf("exit %d: %s", code, stderr.String())
+	}
+	if code := Main([]string{"analyze", path, "--map", "0=lava"}, io.Discard, &stderr); code != 2 {
+		t.Errorf("unknown class: exit %d", code)
+	}
+}
+
+// TestAnalyzeOwnVolume: analyze on a run's final volume reproduces the
+// connectivity the run reported at its last age (same periodic box, same
+// bond rule through the particle ids).
+func TestAnalyzeOwnVolume(t *testing.T) {
+	cfg := writeConfig(t, runConfig)
+	out := filepath.Join(t.TempDir(), "run")
+	mustRun(t, "run", cfg, "--out", out, "--no-render", "-q")
+	var buf bytes.Buffer
+	if code := Main([]string{"analyze", filepath.Join(out, "final.vti"), "--json"}, &buf, io.Discard); code != 0 {
+		t.Fatalf("analyze exit %d", code)
+	}
+	var rep AnalysisReport
+	if err := json.Unmarshal(buf.Bytes(), &rep); err != nil {
+		t.Fatal(err)
+	}
+	var sum RunSummary
+	data, _ := os.ReadFile(filepath.Join(out, "summary.json"))
+	json.Unmarshal(data, &sum)
+	if math.Abs(rep.Porosity-sum.Final.CapillaryPorosity) > 1e-9 || sum.Final.SolidsConnected == nil ||
+		math.Abs(rep.SolidsConnectedFraction-*sum.Final.SolidsConnected) > 1e-9 || math.Abs(rep.PoresConnectedFraction-*sum.Final.PoresConnected) > 1e-9 {
+		t.Errorf("analyze %+v differs from the run's final row %+v", rep, sum.Final)
+	}
+}
