@@ -38,7 +38,7 @@ type command struct {
 var commands []*command
 
 func init() {
-	commands = []*command{runCommand(), mixCommand(), packCommand(), analyzeCommand(), renderCommand(), sweepCommand()}
+	commands = []*command{runCommand(), mixCommand(), packCommand(), analyzeCommand(), renderCommand(), sweepCommand(), fitCommand()}
 }
 
 // usageError is bad usage of the command line (exit status 2).

@@ -196,6 +196,12 @@ func writeMarker(pd string, wallS float64) error {
 func runPoint(pd string, images bool) error {
 	os.Remove(filepath.Join(pd, pointMarkerFile))
 	os.Remove(filepath.Join(pd, pointErrorFile))
+	// temporary files of an earlier, killed attempt
+	if tmp, err := filepath.Glob(filepath.Join(pd, ".*.tmp-*")); err == nil {
+		for _, p := range tmp {
+			os.Remove(p)
+		}
+	}
 	start := time.Now()
 	cfg, err := LoadConfig(filepath.Join(pd, pointConfigFile), nil)
 	if err != nil {
