@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"fmt"
 	"image"
+	"image/color"
 	"image/png"
 	"io"
 	"os"
@@ -50,7 +51,55 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 
 // WritePNG writes img to path atomically.
 func WritePNG(path string, img image.Image) error {
-	return WriteFileAtomic(path, func(w io.Writer) error { return pngEnc.Encode(w, img) })
+	return WriteFileAtomic(path, func(w io.Writer) error { return EncodePNG(w, img) })
+}
+
+// EncodePNG writes img as PNG with fast compression. An RGBA image of at
+// most 256 distinct colours — every slice and 3D view — is written
+// paletted, losslessly: the PNG encoder does not filter paletted rows,
+// which makes it several times faster, and the files are smaller.
+func EncodePNG(w io.Writer, img image.Image) error {
+	if rgba, ok := img.(*image.RGBA); ok {
+		if pm := exactPaletted(rgba); pm != nil {
+			return pngEnc.Encode(w, pm)
+		}
+	}
+	return pngEnc.Encode(w, img)
+}
+
+// exactPaletted returns img as a paletted image of its own colours, in
+// order of first appearance, or nil when it has more than 256.
+func exactPaletted(img *image.RGBA) *image.Paletted {
+	b := img.Bounds()
+	idx := make(map[uint32]uint8, 64)
+	var pal color.Palette
+	pm := image.NewPaletted(b, nil)
+	var last uint32
+	var lastI uint8
+	haveLast := false
+	for y := b.Min.Y; y < b.Max.Y; y++ {
+		o := img.PixOffset(b.Min.X, y)
+		po := pm.PixOffset(b.Min.X, y)
+		for x := 0; x < b.Dx(); x++ {
+			p := img.Pix[o+4*x : o+4*x+4 : o+4*x+4]
+			key := uint32(p[0])<<24 | uint32(p[1])<<16 | uint32(p[2])<<8 | uint32(p[3])
+			if !haveLast || key != last {
+				i, ok := idx[key]
+				if !ok {
+					if len(pal) == 256 {
+						return nil
+					}
+					i = uint8(len(pal))
+					idx[key] = i
+					pal = append(pal, color.RGBA{p[0], p[1], p[2], p[3]})
+				}
+				last, lastI, haveLast = key, i, true
+			}
+			pm.Pix[po+x] = lastI
+		}
+	}
+	pm.Palette = pal
+	return pm
 }
 
 // pngEnc favours speed: slices are flat colour and compress well anyway.

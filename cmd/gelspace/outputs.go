@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"fmt"
-	"image/png"
 	"io"
 	"math"
 	"os"
@@ -213,7 +212,7 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
 					return err
 				}
 				var b bytes.Buffer
-				if err := png.Encode(&b, img); err != nil {
+				if err := render.EncodePNG(&b, img); err != nil {
 					return err
 				}
 				name := fmt.Sprintf("t%07.2fh_xy_z%03d_%s.png", age, g.NZ/2, look)
