@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/spf13/pflag"
@@ -108,6 +109,15 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 		fmt.Fprintf(stdout, "fitted %s (%d rows) in %d evaluations, %.0f s: dissolution_scale %.3g, nucleation_scale %.3g, through_product_scale %.3g; misfit %.3g (from %.3g) → %s\n",
 			curve.File, len(curve.TimeH), res.Evaluations, res.WallS, res.Fitted[multiplierKeys[0]], res.Fitted[multiplierKeys[1]], res.Fitted[multiplierKeys[2]],
 			res.Misfit, res.MisfitStart, filepath.Join(o.out, "fit.toml"))
+		var weak []string
+		for _, k := range multiplierKeys {
+			if !res.Determined[k] {
+				weak = append(weak, k)
+			}
+		}
+		if len(weak) > 0 {
+			fmt.Fprintf(stdout, "note: the misfit hardly moves when %s is scaled by 0.8 or 1.25 (see fit.json sensitivity): poorly determined by this curve; try more --seeds or a bigger --size\n", strings.Join(weak, ", "))
+		}
 	}
 	return nil
 }
@@ -132,8 +142,15 @@ func fitCurve(cfg *Config, curve *measuredCurve, seeds int, s fitSettings) (*Fit
 	r := &FitResult{Version: version, Caution: render.Caution, Measured: curve.File, Kind: curve.Kind, Config: cfg.Source,
 		Rows: len(curve.TimeH), Box: cfg.Box.Voxels, Seeds: m.seeds, Start: map[string]float64{}, Fitted: map[string]float64{},
 		MisfitStart: f0, Misfit: f, Evaluations: evals, Status: status, TimeH: curve.TimeH, MeasuredValue: curve.Value}
+	sens, err := sensitivity(m, curve, best)
+	if err != nil {
+		return nil, err
+	}
+	r.Sensitivity, r.Determined = map[string][2]float64{}, map[string]bool{}
 	for i, key := range multiplierKeys {
 		r.Start[key], r.Fitted[key] = x0[i], best[i]
+		r.Sensitivity[key] = sens[i]
+		r.Determined[key] = sens[i][0] >= 2*f && sens[i][1] >= 2*f
 	}
 	off := 0.0
 	if curve.FromFirst {
@@ -163,7 +180,11 @@ func writeFitOutputs(dir string, r *FitResult) error {
 	fmt.Fprintf(&t, "# with %s on %d³ voxels, seeds %v: relative RMS misfit %.4g (%.4g %s), %d evaluations.\n", r.Config, r.Box, r.Seeds, r.Misfit, r.RMS, r.RMSUnit, r.Evaluations)
 	t.WriteString("# Paste into the run config (replacing any [kinetics] scales there).\n[kinetics]\n")
 	for _, k := range multiplierKeys {
-		fmt.Fprintf(&t, "%s = %.4g\n", k, r.Fitted[k])
+		note := ""
+		if !r.Determined[k] {
+			note = "  # poorly determined by this curve (fit.json: sensitivity)"
+		}
+		fmt.Fprintf(&t, "%s = %.4g%s\n", k, r.Fitted[k], note)
 	}
 	if err := WriteFileAtomic(filepath.Join(dir, "fit.toml"), func(w io.Writer) error { _, err := w.Write(t.Bytes()); return err }); err != nil {
 		return err

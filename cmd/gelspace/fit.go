@@ -301,9 +301,17 @@ type FitResult struct {
 	Status      string  `json:"status"`
 	WallS       float64 `json:"wall_s"`
 	// TimeH, MeasuredValue and FittedValue are the curves compared.
-	TimeH         []float64 `json:"time_h"`
-	MeasuredValue []float64 `json:"measured_value"`
-	FittedValue   []float64 `json:"fitted_value"`
+	// Sensitivity is, per multiplier, the misfit with that multiplier
+	// alone set to 0.8 and 1.25 times its fitted value; Determined says
+	// whether both are at least twice the fitted misfit. A multiplier
+	// that is not determined moves the curve by less than the noise of
+	// the boxes: fit with more seeds or a bigger box, or keep its start
+	// value.
+	Sensitivity   map[string][2]float64 `json:"sensitivity"`
+	Determined    map[string]bool       `json:"determined"`
+	TimeH         []float64             `json:"time_h"`
+	MeasuredValue []float64             `json:"measured_value"`
+	FittedValue   []float64             `json:"fitted_value"`
 }
 
 // fitSettings steer fitKinetics.
@@ -374,4 +382,22 @@ func fitKinetics(m *fitModel, c *measuredCurve, start Multipliers, s fitSettings
 		best[i] = start[i] * math.Exp(x[i])
 	}
 	return best, fx, fstart, evals, status, nil
+}
+
+// sensitivity returns the misfit with each multiplier alone set to 0.8
+// and 1.25 times its value in best.
+func sensitivity(m *fitModel, c *measuredCurve, best Multipliers) ([3][2]float64, error) {
+	var out [3][2]float64
+	for i := range best {
+		for j, f := range []float64{0.8, 1.25} {
+			x := best
+			x[i] *= f
+			v, err := m.curve(x)
+			if err != nil {
+				return out, err
+			}
+			out[i][j] = misfit(v, c)
+		}
+	}
+	return out, nil
 }
