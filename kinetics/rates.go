@@ -113,7 +113,7 @@ func DefaultParams() Params {
 			{Phase: AFt, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 		},
 		SilicateSaturation:      0.002,
-		CSHNucleationPerUM2H:    0.0001,
+		CSHNucleationPerUM2H:    0.00006,
 		CHSaturation:            0.004,
 		CHNucleationPerUM3H:     1e-5,
 		GypsumSolubilityMolPerL: 0.015, // about 2.4 g/L CaSO4·2H2O at 20 °C (common practice)

@@ -125,9 +125,10 @@ type state struct {
 }
 
 // maxFails is the number of failed precipitation attempts after which a
-// dissolved unit is taken to be trapped in a pore that holds no site for it:
-// the pore solution there is supersaturated, and the unit precipitates on
-// the first solid surface its next walk meets.
+// dissolved unit is taken to be trapped in a pore that holds no site for it
+// (once its product is abundant elsewhere): the pore solution there is
+// supersaturated, and the unit precipitates on the first solid surface its
+// next walk meets.
 const maxFails = 12
 
 type stickRule struct {

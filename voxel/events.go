@@ -528,7 +528,7 @@ func (e *Engine) attempt(q kinetics.ID) {
 	free, fails := e.s.Free[q], e.s.Fails[q]
 	k := e.r.IntN(len(free))
 	rule := e.rules[q]
-	if fails[k] >= maxFails {
+	if fails[k] >= maxFails && e.productAbundant(q) {
 		rule = &e.anySolid
 	}
 	pos, ok := e.walk(free[k], rule, q, e.p.WalkSteps)
@@ -540,6 +540,18 @@ func (e *Engine) attempt(q kinetics.ID) {
 	if fails[k] < 255 {
 		fails[k]++
 	}
+}
+
+// productAbundant reports whether product q already fills a thousandth of
+// the box. Only then is a unit that keeps failing taken to be trapped in an
+// isolated pore: before, it fails because the product has not nucleated
+// yet, and it must wait for nucleation (the dormant period).
+func (e *Engine) productAbundant(q kinetics.ID) bool {
+	n := e.s.Count[q]
+	if q == kinetics.CSHOuter {
+		n += e.s.Count[kinetics.CSHInner]
+	}
+	return n*1000 >= e.g.Len()
 }
 
 func (e *Engine) addFree(q kinetics.ID, pos int32, fails uint8) {
