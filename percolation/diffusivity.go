@@ -103,8 +103,11 @@ type Solver struct {
 	q           []float64
 	part        [][3]float64 // per z plane partial sums, added in plane order
 	dg          []float64    // diagonal of A, for the coarse levels
-	z, t        []float64    // multigrid: preconditioned residual, scratch
+	z           []float64    // multigrid: preconditioned residual
+	fine        mgLevel      // multigrid: the fine level, on the arrays above
 	mg          []mgLevel    // multigrid coarse levels
+	mgColour    int          // colour of the fine half sweep
+	mgFirst     bool         // the fine half sweep starts from z = 0
 	mvIn, mvOut []float64    // vectors of matvec
 	jacobiOnly  bool         // tests: Jacobi preconditioner alone
 
@@ -201,7 +204,6 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	s.invd = grow(s.invd, n)
 	s.dg = grow(s.dg, n)
 	s.z = grow(s.z, n)
-	s.t = grow(s.t, n)
 	s.r = grow(s.r, n)
 	s.p = grow(s.p, n)
 	s.q = grow(s.q, n)
@@ -286,10 +288,9 @@ const (
 	passMatvec
 	passUpdate
 	passDirection
-	passMGSmooth0
+	passMGSweep
 	passMGRestrict
 	passMGProlong
-	passMGSmooth1
 	passMGDirection
 )
 
