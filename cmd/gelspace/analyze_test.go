@@ -107,3 +107,19 @@ func TestAnalyzeOwnVolume(t *testing.T) {
 		t.Errorf("analyze %+v differs from the run's final row %+v", rep, sum.Final)
 	}
 }
+
+// TestRenderCommand writes slices at chosen planes and refuses a plane
+// outside the box.
+func TestRenderCommand(t *testing.T) {
+	vol := filepath.Join("..", "..", "testdata", "volumes", "gelspace-12.vti")
+	out := filepath.Join(t.TempDir(), "pics")
+	mustRun(t, "render", vol, "--z", "3", "--out", out, "-q")
+	for _, f := range []string{"slice_xy_z003_phase.png", "slice_xz_y006_bse.png", "cutaway_phase.png"} {
+		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
+			t.Errorf("missing %s", f)
+		}
+	}
+	if code := Main([]string{"render", vol, "--x", "12", "--out", out}, io.Discard, io.Discard); code != 2 {
+		t.Errorf("--x 12 in a 12-voxel box: exit %d, want 2", code)
+	}
+}

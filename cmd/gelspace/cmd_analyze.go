@@ -263,6 +263,7 @@ type renderOpts struct {
 	mapping   string
 	legendAll bool
 	quiet     bool
+	x, y, z   int
 }
 
 func renderCommand() *command {
@@ -271,6 +272,7 @@ func renderCommand() *command {
 		args:    "VOLUME [--out DIR]",
 		summary: "slice images (phase colours and SEM-like grey) and a 3D cut-away of a volume",
 		examples: `  gelspace render demo-run/final.vti --out pics
+  gelspace render demo-run/final.vti --z 10 --x 80 --out pics   # chosen planes
   gelspace render scan.npy --map 0=pore,1=solid,2=csh --out scan-pics
 `,
 		flags: func(fs *pflag.FlagSet) any {
@@ -278,6 +280,9 @@ func renderCommand() *command {
 			fs.StringVarP(&o.out, "out", "o", "gelspace-render", "output folder")
 			fs.StringVar(&o.mapping, "map", "", "label classes of an imported image: LABEL=CLASS,... (as in analyze)")
 			fs.BoolVar(&o.legendAll, "legend-all", false, "list every phase in the legend, not only those present")
+			fs.IntVar(&o.x, "x", -1, "position of the yz slice, voxels (default: the middle)")
+			fs.IntVar(&o.y, "y", -1, "position of the xz slice, voxels (default: the middle)")
+			fs.IntVar(&o.z, "z", -1, "position of the xy slice, voxels (default: the middle)")
 			fs.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing but errors")
 			return o
 		},
@@ -305,7 +310,21 @@ func renderCommand() *command {
 			if err := os.MkdirAll(o.out, 0o755); err != nil {
 				return err
 			}
-			files, err := render.RenderVolume(o.out, g.Phase, g.NX, g.NY, g.NZ, g.VoxelUM, render.Options{LegendAll: o.legendAll})
+			pos := map[render.Plane]int{}
+			for _, c := range []struct {
+				flag string
+				v, n int
+				p    render.Plane
+			}{{"x", o.x, g.NX, render.PlaneYZ}, {"y", o.y, g.NY, render.PlaneXZ}, {"z", o.z, g.NZ, render.PlaneXY}} {
+				if c.v == -1 {
+					continue
+				}
+				if c.v < 0 || c.v >= c.n {
+					return &usageError{fmt.Sprintf("render: --%s %d: must be between 0 and %d", c.flag, c.v, c.n-1)}
+				}
+				pos[c.p] = c.v
+			}
+			files, err := render.RenderVolume(o.out, g.Phase, g.NX, g.NY, g.NZ, g.VoxelUM, render.Options{LegendAll: o.legendAll, Positions: pos})
 			if err != nil {
 				return err
 			}

@@ -301,7 +301,8 @@ func executeRun(cfg *Config, man manifest, p RunParams) (*hydration, error) {
 			break
 		}
 		if bar != nil {
-			bar.Describe(fmt.Sprintf("%7.1f h  α %.3f", h.e.TimeH(), h.e.Alpha()))
+			last := h.st.Samples[len(h.st.Samples)-1]
+			bar.Describe(fmt.Sprintf("%7.1f h  α %.3f  %5.2f mW/g", h.e.TimeH(), h.e.Alpha(), last[colFlow]))
 			bar.Set64(int64(h.e.TimeH() * 10))
 		}
 		due := policy.SimH > 0 && h.e.TimeH()-lastCk >= policy.SimH-1e-9 || policy.Wall > 0 && time.Since(lastWall) >= policy.Wall
