@@ -135,11 +135,28 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 			o.checkpointEvery = man.CheckpointEvery
 		}
 	} else {
-		sets := append([]string(nil), o.sets...)
 		if fs.Changed("until") {
-			sets = append(sets, fmt.Sprintf("curing.until_h=%g", o.until))
+			// --until shortens the run: the output ages beyond it go.
+			if !(o.until > 0) {
+				return &usageError{fmt.Sprintf("run: --until %g: must be > 0 hours", o.until)}
+			}
+			raw, err := LoadRaw(fs.Arg(0))
+			if err != nil {
+				return err
+			}
+			for _, s := range o.sets {
+				if err := raw.Set(s); err != nil {
+					return err
+				}
+			}
+			base, err := raw.Decode()
+			if err != nil {
+				return err
+			}
+			o.sets = append(o.sets, fmt.Sprintf("curing.until_h=%g", o.until),
+				"output.times_h="+tomlList(below(base.Output.TimesH, o.until)),
+				"output.diffusivity_times_h="+tomlList(below(base.Output.DiffusivityTimesH, o.until)))
 		}
-		o.sets = sets
 		if cfg, err = o.load(fs, "run"); err != nil {
 			return err
 		}
@@ -330,6 +347,26 @@ func executeRun(cfg *Config, man manifest, p RunParams) (*hydration, error) {
 	}
 	os.Remove(filepath.Join(p.Out, checkpointFile))
 	return h, nil
+}
+
+// below returns the ages of ts that are at most limit.
+func below(ts []float64, limit float64) []float64 {
+	var out []float64
+	for _, t := range ts {
+		if t <= limit {
+			out = append(out, t)
+		}
+	}
+	return out
+}
+
+// tomlList formats numbers as a TOML array.
+func tomlList(v []float64) string {
+	parts := make([]string, len(v))
+	for i, x := range v {
+		parts[i] = strconv.FormatFloat(x, 'g', -1, 64)
+	}
+	return "[" + strings.Join(parts, ", ") + "]"
 }
 
 // saveCheckpoint writes the engine and the run's progress atomically.

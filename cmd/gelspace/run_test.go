@@ -289,3 +289,21 @@ diffusivity = false
 		t.Errorf("w/c 0.70 depercolated at %.1f h, porosity %.3f: it should stay connected at 28 days", *r.deperc, *r.porosity)
 	}
 }
+
+// TestRunUntil: --until shortens a run and drops the output ages beyond it.
+func TestRunUntil(t *testing.T) {
+	cfg := writeConfig(t, runConfig)
+	out := filepath.Join(t.TempDir(), "short")
+	mustRun(t, "run", cfg, "--out", out, "--until", "5", "--no-render", "-q")
+	data, err := os.ReadFile(filepath.Join(out, "series.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ages []string
+	for _, line := range strings.Split(strings.TrimSpace(string(data)), "\n")[1:] {
+		ages = append(ages, strings.SplitN(line, ",", 2)[0])
+	}
+	if got := strings.Join(ages, " "); got != "1 2 4 5" {
+		t.Errorf("output ages %q, want 1 2 4 5", got)
+	}
+}
