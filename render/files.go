@@ -11,17 +11,19 @@ import (
 	"path/filepath"
 )
 
-// WriteFileAtomic writes path through a temporary file in the same folder
-// and renames it into place, so that the file is either absent, the old
-// version, or complete. The temporary file is removed on failure.
+// WriteFileAtomic writes a file so that readers never see it half
+// written: write fills a temporary file in the same folder, which is synced
+// to disk, closed and renamed over path, so the file is either absent, the
+// old version, or complete. On any error the temporary file is removed and
+// path is untouched. Every gelspace output goes through it.
 func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
 		dir = "."
 	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
+	f, err := os.CreateTemp(dir, "."+base+".tmp-*")
 	if err != nil {
-		return fmt.Errorf("render: %w", err)
+		return err
 	}
 	tmp := f.Name()
 	defer func() {
@@ -32,21 +34,21 @@ func WriteFileAtomic(path string, write func(w io.Writer) error) (err error) {
 	}()
 	bw := bufio.NewWriterSize(f, 1<<16)
 	if err = write(bw); err != nil {
-		return fmt.Errorf("render: writing %s: %w", path, err)
+		return fmt.Errorf("writing %s: %w", path, err)
 	}
 	if err = bw.Flush(); err != nil {
-		return fmt.Errorf("render: writing %s: %w", path, err)
+		return fmt.Errorf("writing %s: %w", path, err)
+	}
+	if err = f.Sync(); err != nil {
+		return fmt.Errorf("syncing %s: %w", path, err)
 	}
 	if err = f.Close(); err != nil {
-		return fmt.Errorf("render: writing %s: %w", path, err)
+		return fmt.Errorf("closing %s: %w", path, err)
 	}
 	if err = os.Chmod(tmp, 0o644); err != nil {
-		return fmt.Errorf("render: %w", err)
+		return err
 	}
-	if err = os.Rename(tmp, path); err != nil {
-		return fmt.Errorf("render: %w", err)
-	}
-	return nil
+	return os.Rename(tmp, path)
 }
 
 // WritePNG writes img to path atomically.

@@ -386,16 +386,7 @@ func loadConfigText(name, dir string, data []byte, sets []string) (*Config, erro
 	if err != nil {
 		return nil, err
 	}
-	for _, s := range sets {
-		if err := raw.Set(s); err != nil {
-			return nil, err
-		}
-	}
-	cfg, err := raw.Decode()
-	if err != nil {
-		return nil, err
-	}
-	return cfg, cfg.Validate()
+	return configFromRaw(raw, sets)
 }
 
 // newRunBar returns a progress bar over simulated hours, or nil when

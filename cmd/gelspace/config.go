@@ -140,6 +140,12 @@ func LoadConfig(path string, sets []string) (*Config, error) {
 	if err != nil {
 		return nil, err
 	}
+	return configFromRaw(raw, sets)
+}
+
+// configFromRaw applies the overrides in sets to raw, in order, then
+// decodes and validates it.
+func configFromRaw(raw *Raw, sets []string) (*Config, error) {
 	for _, s := range sets {
 		if err := raw.Set(s); err != nil {
 			return nil, err
