@@ -185,8 +185,10 @@ func collectCmd(dir string, quiet bool, stdout io.Writer) error {
 	return nil
 }
 
-// newSweepBar returns a progress bar over runs with the time remaining, or
-// nil when stderr is not a terminal.
+// newSweepBar returns a progress bar over runs, or nil when stderr is not
+// a terminal. runSweep writes the time remaining into its description
+// (the bar's own estimate, a rolling rate, suits fast items better than
+// runs of minutes).
 func newSweepBar(n int, stderr io.Writer) *progressbar.ProgressBar {
 	f, ok := stderr.(*os.File)
 	if !ok {
@@ -201,7 +203,7 @@ func newSweepBar(n int, stderr io.Writer) *progressbar.ProgressBar {
 		progressbar.OptionSetWidth(30),
 		progressbar.OptionShowCount(),
 		progressbar.OptionThrottle(200*time.Millisecond),
-		progressbar.OptionSetPredictTime(true),
+		progressbar.OptionSetPredictTime(false),
 		progressbar.OptionShowElapsedTimeOnFinish(),
 	)
 }

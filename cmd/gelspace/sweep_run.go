@@ -273,9 +273,14 @@ func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.Progres
 		}
 		todo = append(todo, i)
 	}
-	if progress != nil && st.Skipped > 0 {
-		progress.Add(st.Skipped)
+	if progress != nil {
+		progress.Describe("sweep (time left after the first runs)")
+		if st.Skipped > 0 {
+			progress.Add(st.Skipped)
+		}
+		progress.RenderBlank()
 	}
+	t0 := time.Now()
 	log.printf("sweep: %d points, %d complete, %d to run with %d jobs", st.Total, st.Skipped, len(todo), jobs)
 	type result struct {
 		i   int
@@ -319,6 +324,11 @@ func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.Progres
 			log.printf("done %s", p.Name)
 		}
 		if progress != nil {
+			// time left from the mean wall time per run so far (the
+			// workers run side by side, so this counts them all)
+			n := st.Ran + len(errs)
+			left := time.Duration(float64(time.Since(t0)) / float64(n) * float64(len(todo)-n))
+			progress.Describe(fmt.Sprintf("sweep, about %s left", left.Round(time.Second)))
 			progress.Add(1)
 		}
 	}

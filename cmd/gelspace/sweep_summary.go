@@ -339,15 +339,16 @@ func writeSweepSummaries(dir string, pl *sweepPlan, rows []sweepRow) error {
 // plotLine is one line of a summary plot: the points sharing the values
 // of every axis but the first.
 type plotLine struct {
-	label string
-	xys   plotter.XYs
-	errs  plotter.YErrors
+	label   string
+	xys     plotter.XYs
+	errs    plotter.YErrors
+	partial plotter.XYs // points where only some replicates have a value
 }
 
 // summaryLines groups the point statistics of output k into lines over
 // the first axis (x: its numeric value, or its position when it is not a
 // number).
-func summaryLines(pl *sweepPlan, first []sweepRow, stats [][]replicateStats, k int) (lines []*plotLine, nominal bool) {
+func summaryLines(pl *sweepPlan, first []sweepRow, stats [][]replicateStats, runs []int, k int) (lines []*plotLine, nominal bool) {
 	ax := pl.Axes[0]
 	for _, n := range ax.Num {
 		if n == nil {
@@ -385,6 +386,9 @@ func summaryLines(pl *sweepPlan, first []sweepRow, stats [][]replicateStats, k i
 		}
 		l.xys = append(l.xys, plotter.XY{X: x, Y: s.Mean})
 		l.errs = append(l.errs, struct{ Low, High float64 }{e, e})
+		if s.N < runs[i] {
+			l.partial = append(l.partial, plotter.XY{X: x, Y: s.Mean})
+		}
 	}
 	return lines, nominal
 }
@@ -401,9 +405,15 @@ func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
 	if len(pl.Axes) == 0 {
 		return nil
 	}
-	first, stats, _ := pointStats(rows)
+	first, stats, runs := pointStats(rows)
+	xlo, xhi := math.Inf(1), math.Inf(-1)
+	for _, n := range pl.Axes[0].Num {
+		if n != nil {
+			xlo, xhi = math.Min(xlo, *n), math.Max(xhi, *n)
+		}
+	}
 	for k, o := range sweepOutputs() {
-		lines, nominal := summaryLines(pl, first, stats, k)
+		lines, nominal := summaryLines(pl, first, stats, runs, k)
 		has := false
 		for _, l := range lines {
 			has = has || len(l.xys) > 0
@@ -419,9 +429,22 @@ func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
 		if nominal {
 			p.NominalX(pl.Axes[0].Values...)
 		}
+		partial := false
+		var rings []plot.Plotter
 		for i, l := range lines {
 			if len(l.xys) == 0 {
 				continue
+			}
+			if len(l.partial) > 0 {
+				partial = true
+				ring, err := plotter.NewScatter(l.partial)
+				if err != nil {
+					return err
+				}
+				ring.Shape = draw.CircleGlyph{}
+				ring.Color = color.White
+				ring.Radius = vg.Points(1.5)
+				rings = append(rings, ring) // drawn over the filled points
 			}
 			c := plotutil.Color(i)
 			line, pts, err := plotter.NewLinePoints(l.xys)
@@ -444,17 +467,20 @@ func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
 				p.Legend.Add(l.label, line, pts)
 			}
 		}
+		p.Add(rings...)
+		if partial {
+			p.Title.Text += "; hollow: not every replicate has a value (summary_stats.csv: _n)"
+		}
 		p.Legend.Top = true
 		p.Legend.Left = true
 		p.Legend.TextStyle.Color = color.Black
 		// room for the error bars at the ends and for the legend on top
 		if !nominal {
-			lo, hi := p.X.Min, p.X.Max
-			pad := 0.05 * (hi - lo)
+			pad := 0.05 * (xhi - xlo)
 			if pad == 0 {
-				pad = 0.5
+				pad = 0.05 * math.Max(math.Abs(xlo), 1)
 			}
-			p.X.Min, p.X.Max = lo-pad, hi+pad
+			p.X.Min, p.X.Max = xlo-pad, xhi+pad
 		}
 		span := p.Y.Max - p.Y.Min
 		if span == 0 {

@@ -456,15 +456,30 @@ func BenchmarkSweepScaling(b *testing.B) {
 	os.WriteFile(one, []byte("base = \"base.toml\"\nreplicates = 1\n[axes]\n\"mix.w_c\" = [0.45]\n"), 0o644)
 	os.WriteFile(two, []byte("base = \"base.toml\"\nreplicates = 2\n[axes]\n\"mix.w_c\" = [0.45]\n"), 0o644)
 	var t1, t2 time.Duration
+	var cpu2 float64
 	for i := 0; i < b.N; i++ {
 		s := time.Now()
 		mainOK(b, "sweep", one, "--jobs", "1", "--out", filepath.Join(dir, fmt.Sprintf("o1-%d", i)), "-q")
 		t1 += time.Since(s)
+		c0 := cpuSeconds()
 		s = time.Now()
 		mainOK(b, "sweep", two, "--jobs", "2", "--out", filepath.Join(dir, fmt.Sprintf("o2-%d", i)), "-q")
 		t2 += time.Since(s)
+		cpu2 += cpuSeconds() - c0
 	}
+	// cpu/wall of the two-job sweep: near 2 when both points ran side by
+	// side; below when other work held a core.
+	b.ReportMetric(cpu2/t2.Seconds(), "cpu/wall-2jobs")
 	b.ReportMetric(t1.Seconds()/float64(b.N), "s/1pt-1job")
 	b.ReportMetric(t2.Seconds()/float64(b.N), "s/2pt-2jobs")
 	b.ReportMetric(t2.Seconds()/t1.Seconds(), "ratio")
+}
+
+// cpuSeconds is the CPU time (user + system) of this process so far.
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return float64(ru.Utime.Sec+ru.Stime.Sec) + float64(ru.Utime.Usec+ru.Stime.Usec)/1e6
 }
