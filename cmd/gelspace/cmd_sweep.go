@@ -41,6 +41,7 @@ Sweep file (TOML):
   "mix.w_c" = { from = 0.35, to = 0.55, step = 0.05 }
   "psd.rosin_rammler" = [{ x_um = 10.0, n = 1.05 }, { x_um = 18.0, n = 1.05 }]
   # [zip] holds axes that vary together (equal lengths) instead of crossing
+  # [set] gives keys one value for every point: "box.voxels" = 60
 Outputs in DIR: summary.csv (one row per point and replicate), summary_stats.csv (mean, sd
 and 95 % CI per point, Student t), plots/, points/pNNNN_rR/ (each run's config and outputs).
 `,
@@ -71,7 +72,11 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 		if mode == "collect" {
 			what = "DIR"
 		}
-		return &usageError{fmt.Sprintf("sweep %s: takes one %s, got %d arguments; see gelspace sweep --help", mode, what, len(args))}
+		name := "sweep"
+		if mode != "run" {
+			name += " " + mode
+		}
+		return &usageError{fmt.Sprintf("%s: takes one %s, got %d arguments; see gelspace sweep --help", name, what, len(args))}
 	}
 	if o.jobs < 1 {
 		return &usageError{fmt.Sprintf("sweep: --jobs %d: must be ≥ 1", o.jobs)}
