@@ -9,50 +9,8 @@ import (
 	"gelspace/kinetics"
 )
 
-// The hydration engine.
-//
-// Model. Hydration runs through the solution. Clinker and sulfate voxels
-// dissolve at faces that touch pore water (or, more slowly, through a C-S-H
-// layer); each dissolution runs one reaction of the kinetics table, whose
-// products leave the site as dissolved units, one unit per voxel of product.
-// Units move as random walkers through the pore water and precipitate where
-// their product's growth rule lets them stick: C-S-H on its own nuclei and
-// on what they cover, CH on its few crystals, the aluminate hydrates on and
-// near aluminate and ferrite. Units that find no site stay dissolved; they
-// make up the solution's concentration, which slows the silicates as it
-// approaches saturation and drives the nucleation of C-S-H on silicate
-// surfaces and of CH in the pores. Co-reactants (the sulfate of gypsum,
-// hemihydrate and anhydrite; ettringite when the sulfate is gone) are taken
-// from well-mixed dissolved pools, dissolving solid voxels as needed.
-//
-// The dormant period, the acceleration and the deceleration are not
-// scripted: the early dissolution saturates the solution and stops; nuclei
-// of C-S-H form at a rate proportional to silicate surface and saturation;
-// each nucleus is a site where units precipitate, which lets dissolution go
-// on, which makes more units near the growing product (autocatalysis); then
-// C-S-H covers the grains, which only dissolve through it at the slower
-// through-product rate, and the pore space and water run out.
-//
-// Clock. Every dissolution, nucleation and precipitation attempt is an event
-// with a rate in 1/s (see kinetics.Dissolution and kinetics.Params); the
-// engine uses Gillespie's direct method: the waiting time is exponential
-// with the total rate, and the event is chosen in proportion to its rate.
-// Surface voxels are kept in rate classes — one indexed set per phase and
-// exposure (faces touching water, faces touching C-S-H) — so choosing and
-// updating an event costs O(1), independent of the box size.
-//
-// Time-scale separation. Diffusion over a few µm takes milliseconds, far
-// less than any reaction time, so the steps of a walk take no clock time: a
-// walk is the spatial sampling of where a unit precipitates, and its
-// success is subject to the attempt rate (kinetics.Params.AttemptPerH).
-//
-// Volumes. Every reaction turns one voxel of its primary phase into product
-// volumes from the molar volumes of the phase table; the fractional voxels
-// of each product of each reaction are carried in accumulators, so each
-// product's voxel count stays within one voxel of the stoichiometry.
-// Saturated curing draws outside water into the chemical shrinkage; sealed
-// curing empties the water voxels at the centres of the largest pores as
-// the shrinkage grows, and hydration slows and stops as the water runs out.
+// The hydration engine; the model, its rates and its assumptions are in
+// the package doc (doc.go).
 
 // Engine is the state of one hydrating paste.
 type Engine struct {
