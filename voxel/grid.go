@@ -31,6 +31,9 @@ func NewGrid(nx, ny, nz int, voxelUM float64) (*Grid, error) {
 	if nx < 1 || ny < 1 || nz < 1 {
 		return nil, fmt.Errorf("voxel: box %d×%d×%d: each edge must be at least 1 voxel", nx, ny, nz)
 	}
+	if nx > MaxVoxels || ny > MaxVoxels || nz > MaxVoxels || int64(nx)*int64(ny) > MaxVoxels {
+		return nil, fmt.Errorf("voxel: box %d×%d×%d has more than the limit of %d voxels", nx, ny, nz, int64(MaxVoxels))
+	}
 	if n := int64(nx) * int64(ny) * int64(nz); n > MaxVoxels {
 		return nil, fmt.Errorf("voxel: box %d×%d×%d has %d voxels, more than the limit %d", nx, ny, nz, n, int64(MaxVoxels))
 	}

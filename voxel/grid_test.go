@@ -41,3 +41,13 @@ func TestStepMatchesNeighbours(t *testing.T) {
 		}
 	}
 }
+
+// TestNewGridRefusesHugeBoxes: edges whose product overflows are refused,
+// not wrapped.
+func TestNewGridRefusesHugeBoxes(t *testing.T) {
+	for _, d := range [][3]int{{1 << 31, 1 << 31, 4}, {1 << 20, 1 << 20, 1 << 20}, {2000, 2000, 2000}} {
+		if _, err := NewGrid(d[0], d[1], d[2], 1); err == nil {
+			t.Errorf("box %v accepted", d)
+		}
+	}
+}
