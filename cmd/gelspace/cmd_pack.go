@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/pflag"
 
 	"gelspace/kinetics"
+	"gelspace/render"
 	"gelspace/voxel"
 )
 
@@ -210,10 +211,6 @@ func writePack(dir string, m *Mix, res *voxel.PackResult, wall float64) error {
 	return nil
 }
 
-// greyMaxZ maps mean atomic number to grey: grey = 255 · MeanZ / greyMaxZ,
-// clamped (backscattered-electron-like contrast: heavier is brighter).
-const greyMaxZ = 18.0
-
 // writePhasesCSV writes the phase table: id, key, name, role, density,
 // colour hex and grey level.
 func writePhasesCSV(w io.Writer) error {
@@ -221,8 +218,7 @@ func writePhasesCSV(w io.Writer) error {
 		return err
 	}
 	for _, p := range kinetics.Phases() {
-		grey := int(255*p.MeanZ/greyMaxZ + 0.5)
-		grey = min(max(grey, 0), 255)
+		grey := render.Grey(&p)
 		c := p.Colour
 		if _, err := fmt.Fprintf(w, "%d,%s,%q,%s,%g,#%02x%02x%02x,%d\n", p.ID, p.Key, p.Name, p.Role, p.DensityGPerCM3, c.R, c.G, c.B, grey); err != nil {
 			return err
