@@ -105,7 +105,9 @@ type Solver struct {
 	dg          []float64    // diagonal of A, for the coarse levels
 	z           []float64    // multigrid: preconditioned residual
 	fine        mgLevel      // multigrid: the fine level, on the arrays above
-	mg          []mgLevel    // multigrid coarse levels
+	mg          []gLevel     // multigrid coarse levels
+	t           []float64    // multigrid: fine residual
+	agg, uf     []int32      // multigrid: aggregate of each fine voxel; union–find scratch
 	mgColour    int          // colour of the fine half sweep
 	mgFirst     bool         // the fine half sweep starts from z = 0
 	mvIn, mvOut []float64    // vectors of matvec
@@ -204,6 +206,7 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	s.invd = grow(s.invd, n)
 	s.dg = grow(s.dg, n)
 	s.z = grow(s.z, n)
+	s.t = grow(s.t, n)
 	s.r = grow(s.r, n)
 	s.p = grow(s.p, n)
 	s.q = grow(s.q, n)
@@ -289,7 +292,7 @@ const (
 	passUpdate
 	passDirection
 	passMGSweep
-	passMGRestrict
+	passMGResidual
 	passMGProlong
 	passMGDirection
 )

@@ -394,3 +394,21 @@ func TestDiffusivityPreconditioners(t *testing.T) {
 		}
 	}
 }
+
+// TestDiffusivityReuseAllocs checks that a sized Solver solves again without
+// allocating, multigrid levels included.
+func TestDiffusivityReuseAllocs(t *testing.T) {
+	box := PeriodicBox(24, 20, 16)
+	phase := randomPaste(box, 4, 0.35, 0.3)
+	var s Solver
+	opt := DiffusivityOptions{Workers: 1}
+	if _, err := s.Diffusivity(box, phase, opt); err != nil {
+		t.Fatal(err)
+	}
+	if len(s.mg) < 2 {
+		t.Fatalf("%d coarse levels, want at least 2", len(s.mg))
+	}
+	if n := testing.AllocsPerRun(3, func() { s.Diffusivity(box, phase, opt) }); n != 0 {
+		t.Errorf("%v allocations per reused solve, want 0", n)
+	}
+}

@@ -32,11 +32,14 @@ type mgLevel struct {
 // Multigrid parameters: red–black Gauss–Seidel pairs before and after the
 // coarse correction on the fine level and on the coarse levels, pairs on the
 // coarsest level, and the size of the coarsest level.
-const (
+var (
 	mgFineSweeps   = 1
 	mgSweeps       = 2
 	mgCoarseSweeps = 8
-	mgCoarsestLen  = 512
+)
+
+const (
+	mgCoarsestLen = 512
 )
 
 func (lv *mgLevel) len() int { return lv.nx * lv.ny * lv.nz }
@@ -142,147 +145,402 @@ func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][
 	}
 }
 
-// restrict sets the coarse right-hand side cf = Pᵀ (f − A x) on the coarse
-// planes whose first fine plane lies in [z0, z1); each coarse plane is
-// summed by one caller in a fixed order.
-func (lv *mgLevel) restrict(x, f []float64, c *mgLevel, z0, z1 int) {
+// residual sets t = f − A x on the planes [z0, z1) (0 off the active set).
+func (lv *mgLevel) residual(x, f, t []float64, z0, z1 int) {
 	nx := lv.nx
-	cx, cy := c.nx, c.ny
 	gx, gy, gz := lv.g[0], lv.g[1], lv.g[2]
-	for Z := (z0 + 1) / 2; 2*Z < z1; Z++ {
-		cf := c.f[cx*cy*Z:][:cx*cy]
-		clear(cf)
-		for z := 2 * Z; z < min(2*Z+2, lv.nz); z++ {
-			for y := range lv.ny {
-				row, ym, yp, zm, zp := lv.offsets(y, z)
-				cr := cf[cx*(y>>1):][:cx]
-				xr := x[row : row+nx]
-				n := len(xr)
-				fr, dr := f[row : row+nx][:n], lv.diag[row : row+nx][:n]
-				xym, xyp := x[ym : ym+nx][:n], x[yp : yp+nx][:n]
-				xzm, xzp := x[zm : zm+nx][:n], x[zp : zp+nx][:n]
-				gxr := gx[row : row+nx][:n]
-				gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
-				gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
-				for i := range xr {
-					if dr[i] == 0 {
-						continue
-					}
-					ip, im := i+1, i-1
-					if ip == n {
-						ip = 0
-					}
-					if im < 0 {
-						im = n - 1
-					}
-					v := fr[i] - dr[i]*xr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
-						float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
-						float64(gzr[i])*xzp[i] + float64(gzm[i])*xzm[i]
-					cr[i>>1] += v
-				}
-			}
-		}
-	}
-}
-
-// prolong adds the coarse correction, x += P (c.x), on the active voxels of
-// the planes [z0, z1).
-func (lv *mgLevel) prolong(x []float64, c *mgLevel, z0, z1 int) {
-	nx := lv.nx
-	cx, cy := c.nx, c.ny
 	for z := z0; z < z1; z++ {
 		for y := range lv.ny {
-			row := nx * (y + lv.ny*z)
-			cr := c.x[cx*(y>>1+cy*(z>>1)):][:cx]
-			xr, mr := x[row:row+nx], lv.invd[row : row+nx][:nx]
+			row, ym, yp, zm, zp := lv.offsets(y, z)
+			xr := x[row : row+nx]
+			n := len(xr)
+			fr, dr, tr := f[row : row+nx][:n], lv.diag[row : row+nx][:n], t[row : row+nx][:n]
+			xym, xyp := x[ym : ym+nx][:n], x[yp : yp+nx][:n]
+			xzm, xzp := x[zm : zm+nx][:n], x[zp : zp+nx][:n]
+			gxr := gx[row : row+nx][:n]
+			gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
+			gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
 			for i := range xr {
-				if mr[i] != 0 {
-					xr[i] += cr[i>>1]
+				if dr[i] == 0 {
+					tr[i] = 0
+					continue
 				}
+				ip, im := i+1, i-1
+				if ip == n {
+					ip = 0
+				}
+				if im < 0 {
+					im = n - 1
+				}
+				tr[i] = fr[i] - dr[i]*xr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
+					float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
+					float64(gzr[i])*xzp[i] + float64(gzm[i])*xzm[i]
 			}
 		}
 	}
 }
 
-// coarsen builds level c from level l, leaving out the voxels of l whose
-// invd is 0 (off the active set).
-func (c *mgLevel) coarsen(l *mgLevel) {
-	cx, cy, cz := (l.nx+1)/2, (l.ny+1)/2, (l.nz+1)/2
-	c.resize(cx, cy, cz)
-	for k := range 3 {
-		clear(c.g[k])
+// gLevel is a coarse level: a conductance network on the aggregates of the
+// level below, stored as compressed rows of its off-diagonal conductances.
+type gLevel struct {
+	n        int
+	ptr      []int32   // row I holds entries ptr[I] to ptr[I+1]
+	col      []int32   // neighbour of each entry
+	val      []float32 // conductance of each entry (minus the matrix entry)
+	diag     []float64 // diagonal of A
+	invd     []float64 // 1/diag, 0 where diag is 0
+	f, x     []float64 // right-hand side, iterate
+	blk      []int32   // block coordinates (3 per node) on the block grid of dims
+	dims     [3]int
+	agg      []int32 // aggregate of each node on the next level
+	cnt, pos []int32 // assembly scratch
+}
+
+// forward and backward are Gauss–Seidel sweeps on A x = f in node order
+// and in reverse; backward is the adjoint of forward.
+func (c *gLevel) forward() {
+	for i := range c.n {
+		c.gsNode(i)
 	}
-	clear(c.diag)
-	nx, ny, nz := l.nx, l.ny, l.nz
-	dims := [3]int{nx, ny, nz}
+}
+
+func (c *gLevel) backward() {
+	for i := c.n - 1; i >= 0; i-- {
+		c.gsNode(i)
+	}
+}
+
+func (c *gLevel) gsNode(i int) {
+	m := c.invd[i]
+	if m == 0 {
+		return
+	}
+	v := c.f[i]
+	lo, hi := c.ptr[i], c.ptr[i+1]
+	cols, vals := c.col[lo:hi], c.val[lo:hi]
+	vals = vals[:len(cols)]
+	for k, j := range cols {
+		v += float64(vals[k]) * c.x[j]
+	}
+	c.x[i] = v * m
+}
+
+// uf is a union–find forest over int32 node numbers; the root of a set is
+// its smallest node, so the forest does not depend on the order of unions.
+type uf []int32
+
+func (u uf) find(a int32) int32 {
+	for u[a] != a {
+		u[a] = u[u[a]]
+		a = u[a]
+	}
+	return a
+}
+
+func (u uf) union(a, b int32) {
+	ra, rb := u.find(a), u.find(b)
+	if ra < rb {
+		u[rb] = ra
+	} else if rb < ra {
+		u[ra] = rb
+	}
+}
+
+func growI32(b []int32, n int) []int32 { return grow(b, n) }
+
+// fineAggregates groups the active voxels of the fine level into the
+// connected components (by bonds with g > 0) of each 2×2×2 block, numbered
+// in the order of their first voxel, and sets up level c's block grid.
+// It returns the number of aggregates.
+func (s *Solver) fineAggregates(c *gLevel) int {
+	f := &s.fine
+	nx, ny, nz := f.nx, f.ny, f.nz
+	n := f.len()
+	s.agg = growI32(s.agg, n)
+	s.uf = growI32(s.uf, n)
+	u := uf(s.uf)
+	for i := range u {
+		u[i] = int32(i)
+	}
+	plane := nx * ny
 	for z := range nz {
 		for y := range ny {
 			for x := range nx {
 				i := x + nx*(y+ny*z)
-				if l.invd[i] == 0 {
+				if f.invd[i] == 0 {
 					continue
 				}
-				I := x/2 + cx*(y/2+cy*(z/2))
-				c.diag[I] += l.diag[i]
-				nb := [3][3]int{{x + 1, y, z}, {x, y + 1, z}, {x, y, z + 1}}
-				for k := range 3 {
-					g := l.g[k][i]
-					if g == 0 {
-						continue
-					}
-					q := nb[k]
-					if q[k] == dims[k] {
-						q[k] = 0
-					}
-					J := q[0]/2 + cx*(q[1]/2+cy*(q[2]/2))
-					if J == I {
-						c.diag[I] -= 2 * float64(g)
-					} else {
-						c.g[k][I] += g
-					}
+				if x+1 < nx && x&1 == 0 && f.g[0][i] > 0 {
+					u.union(int32(i), int32(i+1))
+				}
+				if y+1 < ny && y&1 == 0 && f.g[1][i] > 0 {
+					u.union(int32(i), int32(i+nx))
+				}
+				if z+1 < nz && z&1 == 0 && f.g[2][i] > 0 {
+					u.union(int32(i), int32(i+plane))
 				}
 			}
 		}
 	}
-	for I, d := range c.diag {
-		c.invd[I] = 0
-		if d > 1e-300 {
-			c.invd[I] = float32(1 / d)
+	// The roots are the smallest voxel of each component; number them in
+	// voxel order.
+	c.dims = [3]int{(nx + 1) / 2, (ny + 1) / 2, (nz + 1) / 2}
+	c.blk = c.blk[:0]
+	na := 0
+	for i := range n {
+		if f.invd[i] == 0 {
+			s.agg[i] = -1
+			continue
 		}
+		r := u.find(int32(i))
+		if int(r) == i {
+			s.agg[i] = int32(na)
+			na++
+			x, y, z := i%nx, (i/nx)%ny, i/plane
+			c.blk = append(c.blk, int32(x/2), int32(y/2), int32(z/2))
+			continue
+		}
+		s.agg[i] = s.agg[r]
 	}
+	return na
 }
 
-// smooth runs the half sweeps of a palindrome of pairs red–black pairs from
-// x = 0 when first (red, black, red, ...) or, after the coarse correction,
-// (black, red, black, ...), on a coarse level, serially.
-func (lv *mgLevel) smooth(pairs int, pre bool) {
-	x, f := lv.x[:lv.len()], lv.f[:lv.len()]
-	c0 := 0
-	if !pre {
-		c0 = 1
-	}
-	for k := range 2 * pairs {
-		lv.sweep(x, f, (c0+k)&1, pre && k == 0, 0, lv.nz, nil)
-	}
+// edgeSource is a finer level seen from the level built on its
+// aggregates: it visits each of its bonds once with emit, as a pair of
+// aggregates, and each of its diagonal entries with addDiag.
+type edgeSource interface {
+	visitEdges(c *gLevel, pass int)
+	visitDiag(c *gLevel)
 }
 
-// vcycle sets x ≈ A⁻¹ f on coarse level k (s.mg[k]) and below.
-func (s *Solver) vcycle(k int) {
-	lv := &s.mg[k]
-	if k == len(s.mg)-1 {
-		// Red first from 0, then black, red, ..., red: a palindrome.
-		x, f := lv.x[:lv.len()], lv.f[:lv.len()]
-		for j := range 2*mgCoarseSweeps + 1 {
-			lv.sweep(x, f, j&1, j == 0, 0, lv.nz, nil)
+// emit takes the bond g between aggregates I and J: on pass 0 it counts the
+// entries of I and J, or takes 2g from the diagonal when I = J; on pass 1
+// it writes the entries.
+func (c *gLevel) emit(pass int, I, J int32, g float32) {
+	if I == J {
+		if pass == 0 {
+			c.diag[I] -= 2 * float64(g)
 		}
 		return
 	}
-	lv.smooth(mgSweeps, true)
-	c := &s.mg[k+1]
-	lv.restrict(lv.x, lv.f, c, 0, lv.nz)
+	if pass == 0 {
+		c.cnt[I+1]++
+		c.cnt[J+1]++
+		return
+	}
+	fill := c.ptr
+	c.col[fill[I]], c.val[fill[I]] = J, g
+	fill[I]++
+	c.col[fill[J]], c.val[fill[J]] = I, g
+	fill[J]++
+}
+
+// assemble builds level c, of nc nodes, from the finer level src: the
+// Galerkin operator Pᵀ A P of piecewise-constant interpolation P.
+func (c *gLevel) assemble(nc int, src edgeSource) {
+	c.n = nc
+	c.ptr = growI32(c.ptr, nc+1)
+	c.cnt = growI32(c.cnt, nc+1)
+	c.diag = grow(c.diag, nc)
+	c.invd = grow(c.invd, nc)
+	c.f = grow(c.f, nc)
+	c.x = grow(c.x, nc)
+	clear(c.cnt)
+	clear(c.diag)
+	src.visitDiag(c)
+	src.visitEdges(c, 0)
+	for I := range nc {
+		c.cnt[I+1] += c.cnt[I]
+	}
+	m := int(c.cnt[nc])
+	c.col = growI32(c.col, m)
+	c.val = grow(c.val, m)
+	// Fill the raw entries row by row, in the order the bonds are visited,
+	// with ptr as the fill cursors, then merge duplicates.
+	copy(c.ptr[:nc], c.cnt[:nc])
+	src.visitEdges(c, 1)
+	c.merge()
+	for I, d := range c.diag {
+		c.invd[I] = 0
+		if d > 1e-300 {
+			c.invd[I] = 1 / d
+		}
+	}
+}
+
+// merge compacts the raw rows (bounds in cnt) by summing the entries of
+// each row that share a neighbour, and sets ptr.
+func (c *gLevel) merge() {
+	nc := c.n
+	where := growI32(c.pos, nc) // position of neighbour J in the current row, or −1
+	for i := range where {
+		where[i] = -1
+	}
+	c.pos = where
+	out := int32(0)
+	for I := range nc {
+		lo, hi := c.cnt[I], c.cnt[I+1]
+		c.ptr[I] = out
+		start := out
+		for k := lo; k < hi; k++ {
+			J, g := c.col[k], c.val[k]
+			if w := where[J]; w >= start {
+				c.val[w] += g
+				continue
+			}
+			where[J] = out
+			c.col[out], c.val[out] = J, g
+			out++
+		}
+		for k := start; k < out; k++ {
+			where[c.col[k]] = -1
+		}
+	}
+	c.ptr[nc] = out
+}
+
+// aggregate groups the nodes of c into the connected components (by
+// entries with conductance > 0) of each 2×2×2 block of its block grid,
+// numbered in node order, sets c.agg and the block grid of next, and
+// returns the number of aggregates.
+func (c *gLevel) aggregate(next *gLevel, u uf) int {
+	u = u[:c.n]
+	for i := range u {
+		u[i] = int32(i)
+	}
+	for I := range c.n {
+		bi := c.blk[3*I : 3*I+3]
+		for k := c.ptr[I]; k < c.ptr[I+1]; k++ {
+			J := c.col[k]
+			if int(J) <= I || c.val[k] == 0 {
+				continue
+			}
+			bj := c.blk[3*J : 3*J+3]
+			if bi[0]>>1 == bj[0]>>1 && bi[1]>>1 == bj[1]>>1 && bi[2]>>1 == bj[2]>>1 {
+				u.union(int32(I), J)
+			}
+		}
+	}
+	c.agg = growI32(c.agg, c.n)
+	next.dims = [3]int{(c.dims[0] + 1) / 2, (c.dims[1] + 1) / 2, (c.dims[2] + 1) / 2}
+	next.blk = next.blk[:0]
+	na := 0
+	for I := range c.n {
+		r := u.find(int32(I))
+		if int(r) == I {
+			c.agg[I] = int32(na)
+			na++
+			b := c.blk[3*I : 3*I+3]
+			next.blk = append(next.blk, b[0]>>1, b[1]>>1, b[2]>>1)
+			continue
+		}
+		c.agg[I] = c.agg[r]
+	}
+	return na
+}
+
+func (c *gLevel) visitEdges(next *gLevel, pass int) {
+	for I := range c.n {
+		for k := c.ptr[I]; k < c.ptr[I+1]; k++ {
+			if J := c.col[k]; int(J) > I {
+				next.emit(pass, c.agg[I], c.agg[J], c.val[k])
+			}
+		}
+	}
+}
+
+func (c *gLevel) visitDiag(next *gLevel) {
+	for i := range c.n {
+		next.diag[c.agg[i]] += c.diag[i]
+	}
+}
+
+func (s *Solver) visitEdges(c *gLevel, pass int) {
+	f, agg := &s.fine, s.agg
+	nx := f.nx
+	for z := range f.nz {
+		for y := range f.ny {
+			row, _, yp, _, zp := f.offsets(y, z)
+			for x := range nx {
+				i := row + x
+				I := agg[i]
+				if I < 0 {
+					continue
+				}
+				xp := x + 1
+				if xp == nx {
+					xp = 0
+				}
+				if g := f.g[0][i]; g > 0 {
+					c.emit(pass, I, agg[row+xp], g)
+				}
+				if g := f.g[1][i]; g > 0 {
+					c.emit(pass, I, agg[yp+x], g)
+				}
+				if g := f.g[2][i]; g > 0 {
+					c.emit(pass, I, agg[zp+x], g)
+				}
+			}
+		}
+	}
+}
+
+func (s *Solver) visitDiag(c *gLevel) {
+	for i, I := range s.agg {
+		if I >= 0 {
+			c.diag[I] += s.fine.diag[i]
+		}
+	}
+}
+
+// restrict sets next.f = Pᵀ (f − A x).
+func (c *gLevel) restrict(next *gLevel) {
+	cf := next.f[:next.n]
+	clear(cf)
+	for i := range c.n {
+		if c.invd[i] == 0 {
+			continue
+		}
+		v := c.f[i] - c.diag[i]*c.x[i]
+		for k := c.ptr[i]; k < c.ptr[i+1]; k++ {
+			v += float64(c.val[k]) * c.x[c.col[k]]
+		}
+		cf[c.agg[i]] += v
+	}
+}
+
+// prolong adds x += P (next.x).
+func (c *gLevel) prolong(next *gLevel) {
+	for i := range c.n {
+		if c.invd[i] != 0 {
+			c.x[i] += next.x[c.agg[i]]
+		}
+	}
+}
+
+// vcycle sets x ≈ A⁻¹ f on coarse level k (s.mg[k]) and below: forward
+// Gauss–Seidel sweeps from x = 0, the coarse correction, and as many
+// backward sweeps, so that the cycle is symmetric.
+func (s *Solver) vcycle(k int) {
+	c := &s.mg[k]
+	clear(c.x[:c.n])
+	if k == len(s.mg)-1 {
+		for range mgCoarseSweeps {
+			c.forward()
+			c.backward()
+		}
+		return
+	}
+	for range mgSweeps {
+		c.forward()
+	}
+	next := &s.mg[k+1]
+	c.restrict(next)
 	s.vcycle(k + 1)
-	lv.prolong(lv.x, c, 0, lv.nz)
-	lv.smooth(mgSweeps, false)
+	c.prolong(next)
+	for range mgSweeps {
+		c.backward()
+	}
 }
 
 // mgBuild builds the coarse levels for the current axis from the fine
@@ -293,19 +551,31 @@ func (s *Solver) mgBuild() {
 	if s.fine.len() <= mgCoarsestLen {
 		return
 	}
-	prev := &s.fine
+	if cap(s.mg) == 0 {
+		s.mg = append(s.mg, gLevel{})
+	}
+	s.mg = s.mg[:1]
+	c := &s.mg[0]
+	c.assemble(s.fineAggregates(c), s)
 	for {
+		c := &s.mg[len(s.mg)-1]
+		if c.n <= mgCoarsestLen || c.dims == [3]int{1, 1, 1} {
+			return
+		}
 		if len(s.mg) < cap(s.mg) {
 			s.mg = s.mg[:len(s.mg)+1]
 		} else {
-			s.mg = append(s.mg, mgLevel{})
+			s.mg = append(s.mg, gLevel{})
 		}
-		c := &s.mg[len(s.mg)-1]
-		c.coarsen(prev)
-		if c.len() <= mgCoarsestLen || (c.nx == 1 && c.ny == 1 && c.nz == 1) {
+		c = &s.mg[len(s.mg)-2]
+		next := &s.mg[len(s.mg)-1]
+		s.uf = growI32(s.uf, c.n)
+		nn := c.aggregate(next, uf(s.uf))
+		if nn == c.n {
+			s.mg = s.mg[:len(s.mg)-1]
 			return
 		}
-		prev = c
+		next.assemble(nn, c)
 	}
 }
 
@@ -314,16 +584,25 @@ func (s *Solver) mgBuild() {
 // with per-plane sums, like the rest of the solve; the half sweeps run on
 // one worker when the colouring is not proper (see above).
 func (s *Solver) mgPrecond() float64 {
-	clear(s.part)
 	for k := range 2 * mgFineSweeps {
 		s.mgColour, s.mgFirst = k&1, k == 0
 		s.sweepPass()
 	}
-	s.parallel(passMGRestrict)
+	s.parallel(passMGResidual)
+	c := &s.mg[0]
+	cf := c.f[:c.n]
+	clear(cf)
+	for i, I := range s.agg {
+		if I >= 0 {
+			cf[I] += s.t[i]
+		}
+	}
 	s.vcycle(0)
 	s.parallel(passMGProlong)
-	clear(s.part)
 	for k := range 2 * mgFineSweeps {
+		if k == 2*mgFineSweeps-2 {
+			clear(s.part) // r·z over the last pair, which sets every voxel
+		}
 		s.mgColour, s.mgFirst = (k+1)&1, false
 		s.sweepPass()
 	}
@@ -343,16 +622,22 @@ func (s *Solver) sweepPass() {
 
 // mgPass runs the fine-level multigrid pass op on the planes [z0, z1).
 func (s *Solver) mgPass(op, z0, z1 int) {
+	plane := s.box.NX * s.box.NY
+	lo, hi := z0*plane, z1*plane
 	switch op {
 	case passMGSweep:
 		s.fine.sweep(s.z, s.r, s.mgColour, s.mgFirst, z0, z1, s.part)
-	case passMGRestrict:
-		s.fine.restrict(s.z, s.r, &s.mg[0], z0, z1)
-	case passMGProlong:
-		s.fine.prolong(s.z, &s.mg[0], z0, z1)
+	case passMGResidual:
+		s.fine.residual(s.z, s.r, s.t, z0, z1)
+	case passMGProlong: // z += P (coarse x)
+		cx := s.mg[0].x
+		x := s.z[lo:hi]
+		for i, I := range s.agg[lo:hi][:len(x)] {
+			if I >= 0 {
+				x[i] += cx[I]
+			}
+		}
 	case passMGDirection: // p = z + βp
-		plane := s.box.NX * s.box.NY
-		lo, hi := z0*plane, z1*plane
 		beta := s.beta
 		p := s.p[lo:hi]
 		for i, zi := range s.z[lo:hi][:len(p)] {
