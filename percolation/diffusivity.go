@@ -106,10 +106,10 @@ type Solver struct {
 	z           []float64    // multigrid: preconditioned residual
 	fine        mgLevel      // multigrid: the fine level, on the arrays above
 	mg          []gLevel     // multigrid coarse levels
-	t           []float64    // multigrid: fine residual
 	agg, uf     []int32      // multigrid: aggregate of each fine voxel; union–find scratch
 	mgColour    int          // colour of the fine half sweep
 	mgFirst     bool         // the fine half sweep starts from z = 0
+	resColour   int          // colour of the fine residual, or −1 for all voxels
 	mvIn, mvOut []float64    // vectors of matvec
 	jacobiOnly  bool         // tests: Jacobi preconditioner alone
 
@@ -206,7 +206,6 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	s.invd = grow(s.invd, n)
 	s.dg = grow(s.dg, n)
 	s.z = grow(s.z, n)
-	s.t = grow(s.t, n)
 	s.r = grow(s.r, n)
 	s.p = grow(s.p, n)
 	s.q = grow(s.q, n)
@@ -315,6 +314,31 @@ func (s *Solver) parallel(op int) {
 		}()
 	}
 	s.pass(0, nz/w)
+	wg.Wait()
+}
+
+// parallelEven is parallel with ranges that start at even planes (the
+// last range takes what is left).
+func (s *Solver) parallelEven(op int) {
+	s.op = op
+	nz, w := s.box.NZ, s.workers
+	if w <= 1 {
+		s.pass(0, nz)
+		return
+	}
+	var wg sync.WaitGroup
+	for k := 1; k < w; k++ {
+		lo, hi := (k*nz/w)&^1, ((k+1)*nz/w)&^1
+		if k == w-1 {
+			hi = nz
+		}
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			s.pass(lo, hi)
+		}()
+	}
+	s.pass(0, (nz/w)&^1)
 	wg.Wait()
 }
 

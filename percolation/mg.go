@@ -30,16 +30,14 @@ type mgLevel struct {
 }
 
 // Multigrid parameters: red–black Gauss–Seidel pairs before and after the
-// coarse correction on the fine level and on the coarse levels, pairs on the
-// coarsest level, and the size of the coarsest level.
-var (
+// coarse correction on the fine level, Gauss–Seidel sweeps before and after
+// it on the coarse levels, symmetric sweeps on the coarsest level, and the
+// size of the coarsest level.
+const (
 	mgFineSweeps   = 1
 	mgSweeps       = 2
 	mgCoarseSweeps = 8
-)
-
-const (
-	mgCoarsestLen = 512
+	mgCoarsestLen  = 512
 )
 
 func (lv *mgLevel) len() int { return lv.nx * lv.ny * lv.nz }
@@ -125,11 +123,8 @@ func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][
 					continue
 				}
 				ip, im := i+1, i-1
-				if ip == n {
-					ip = 0
-				}
-				if im < 0 {
-					im = n - 1
+				if i == 0 || i == n-1 {
+					ip, im = (i+1)%n, (i+n-1)%n
 				}
 				v := fr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
 					float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
@@ -145,8 +140,13 @@ func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][
 	}
 }
 
-// residual sets t = f − A x on the planes [z0, z1) (0 off the active set).
-func (lv *mgLevel) residual(x, f, t []float64, z0, z1 int) {
+// restrictResidual adds the residual f − A x of each active voxel of the
+// planes [z0, z1) to the right-hand side cf of its aggregate agg (Pᵀ of
+// the residual), visiting only the voxels of colour c when c ≥ 0 (the
+// residual vanishes on the other colour). The voxels of one aggregate lie
+// in one 2×2×2 block, so ranges of planes that start at even planes write
+// disjoint entries of cf, each in the same order whatever the ranges.
+func (lv *mgLevel) restrictResidual(x, f []float64, agg []int32, cf []float64, c, z0, z1 int) {
 	nx := lv.nx
 	gx, gy, gz := lv.g[0], lv.g[1], lv.g[2]
 	for z := z0; z < z1; z++ {
@@ -154,25 +154,26 @@ func (lv *mgLevel) residual(x, f, t []float64, z0, z1 int) {
 			row, ym, yp, zm, zp := lv.offsets(y, z)
 			xr := x[row : row+nx]
 			n := len(xr)
-			fr, dr, tr := f[row : row+nx][:n], lv.diag[row : row+nx][:n], t[row : row+nx][:n]
+			fr, dr, ar := f[row : row+nx][:n], lv.diag[row : row+nx][:n], agg[row : row+nx][:n]
 			xym, xyp := x[ym : ym+nx][:n], x[yp : yp+nx][:n]
 			xzm, xzp := x[zm : zm+nx][:n], x[zp : zp+nx][:n]
 			gxr := gx[row : row+nx][:n]
 			gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
 			gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
-			for i := range xr {
-				if dr[i] == 0 {
-					tr[i] = 0
+			x0, step := 0, 1
+			if c >= 0 {
+				x0, step = (c+y+z)&1, 2
+			}
+			for i := x0; i < n; i += step {
+				I := ar[i]
+				if I < 0 {
 					continue
 				}
 				ip, im := i+1, i-1
-				if ip == n {
-					ip = 0
+				if i == 0 || i == n-1 {
+					ip, im = (i+1)%n, (i+n-1)%n
 				}
-				if im < 0 {
-					im = n - 1
-				}
-				tr[i] = fr[i] - dr[i]*xr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
+				cf[I] += fr[i] - dr[i]*xr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
 					float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
 					float64(gzr[i])*xzp[i] + float64(gzm[i])*xzm[i]
 			}
@@ -588,15 +589,15 @@ func (s *Solver) mgPrecond() float64 {
 		s.mgColour, s.mgFirst = k&1, k == 0
 		s.sweepPass()
 	}
-	s.parallel(passMGResidual)
-	c := &s.mg[0]
-	cf := c.f[:c.n]
-	clear(cf)
-	for i, I := range s.agg {
-		if I >= 0 {
-			cf[I] += s.t[i]
-		}
+	// After the black half sweep the residual vanishes on the black voxels
+	// when the colouring is proper: only the red ones are formed and
+	// restricted.
+	s.resColour = -1
+	if s.fine.coloured() && mgFineSweeps > 0 {
+		s.resColour = 0
 	}
+	clear(s.mg[0].f[:s.mg[0].n])
+	s.parallelEven(passMGResidual)
 	s.vcycle(0)
 	s.parallel(passMGProlong)
 	for k := range 2 * mgFineSweeps {
@@ -628,13 +629,23 @@ func (s *Solver) mgPass(op, z0, z1 int) {
 	case passMGSweep:
 		s.fine.sweep(s.z, s.r, s.mgColour, s.mgFirst, z0, z1, s.part)
 	case passMGResidual:
-		s.fine.residual(s.z, s.r, s.t, z0, z1)
-	case passMGProlong: // z += P (coarse x)
+		s.fine.restrictResidual(s.z, s.r, s.agg, s.mg[0].f, s.resColour, z0, z1)
+	case passMGProlong: // z += P (coarse x), on red only when the black half sweep that follows overwrites black
 		cx := s.mg[0].x
-		x := s.z[lo:hi]
-		for i, I := range s.agg[lo:hi][:len(x)] {
-			if I >= 0 {
-				x[i] += cx[I]
+		nx, ny := s.box.NX, s.box.NY
+		for z := z0; z < z1; z++ {
+			for y := range ny {
+				row := nx * (y + ny*z)
+				x0, step := 0, 1
+				if s.resColour >= 0 {
+					x0, step = (y+z)&1, 2
+				}
+				xr, ar := s.z[row:row+nx], s.agg[row : row+nx][:nx]
+				for i := x0; i < nx; i += step {
+					if I := ar[i]; I >= 0 {
+						xr[i] += cx[I]
+					}
+				}
 			}
 		}
 	case passMGDirection: // p = z + βp
