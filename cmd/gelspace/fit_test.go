@@ -61,9 +61,9 @@ var fitTruth = Multipliers{1.25, 0.8, 1.2}
 // The fit recovers the multipliers of a curve the model itself produced
 // on the same boxes. The dissolution multiplier, which sets the pace of
 // the whole curve, comes back within 10 %; the nucleation and
-// through-product multipliers move the curve by less than the noise of a
-// small box (see the report of issue 6) and are only required to give a
-// curve as close as the truth's neighbourhood.
+// through-product multipliers trade off against each other and move the
+// curve by little more than the noise of a small box, so for them only
+// the curve is required to come close.
 func TestFitRecoversSynthetic(t *testing.T) {
 	cfg, err := LoadConfig("", []string{"box.voxels=30", "curing.until_h=48", "output.times_h=[]"})
 	if err != nil {
@@ -193,22 +193,49 @@ func TestFitTestdata(t *testing.T) {
 }
 
 // With the command's defaults (40³ voxels, seeds 7–9, 120 evaluations)
-// the fit of the invented heat curve, which the model made on those same
-// boxes with fitTruth, recovers all three multipliers within 10 %.
+// the fit of a heat curve that the model makes here on those same boxes
+// with fitTruth (half-hourly to 72 h, as in testdata/fit) recovers the
+// dissolution multiplier within 10 % and the curve to a relative RMS of
+// 2 %. The nucleation and through-product multipliers trade off along a
+// ridge (faster nucleation with a slower through-product stage gives much
+// the same heat curve), so one heat curve does not pin them separately;
+// fit.json's sensitivity shows it.
 func TestFitCommandRecoversLong(t *testing.T) {
 	if os.Getenv("GELSPACE_LONG") == "" {
 		t.Skip("GELSPACE_LONG not set: a fit with the default settings takes a minute or two")
 	}
+	cfg, err := LoadConfig("", []string{"box.voxels=40", "curing.until_h=72", "output.times_h=[]"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var times []float64
+	for h := 0.5; h <= 72; h += 0.5 {
+		times = append(times, h)
+	}
+	m, err := newFitModel(cfg, 3, times, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	heat, err := m.curve(fitTruth)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b bytes.Buffer
+	b.WriteString("time_h,heat_j_per_g\n")
+	for i, h := range times {
+		fmt.Fprintf(&b, "%g,%.6f\n", h, heat[i])
+	}
+	curve := filepath.Join(t.TempDir(), "heat.csv")
+	os.WriteFile(curve, b.Bytes(), 0o644)
 	out := filepath.Join(t.TempDir(), "fit")
-	mainOK(t, "fit", filepath.Join("..", "..", "testdata", "fit", "rw-g-heat-20c.csv"), "--out", out, "-q")
+	mainOK(t, "fit", curve, "--out", out, "-q")
 	var r FitResult
 	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(out, "fit.json"))), &r); err != nil {
 		t.Fatal(err)
 	}
-	for i, k := range multiplierKeys {
-		if got := r.Fitted[k]; math.Abs(got/fitTruth[i]-1) > 0.10 {
-			t.Errorf("%s = %.3f, want %.3f within 10 %%", k, got, fitTruth[i])
-		}
+	t.Logf("fitted %v, misfit %.4g, determined %v", r.Fitted, r.Misfit, r.Determined)
+	if got := r.Fitted[multiplierKeys[0]]; math.Abs(got/fitTruth[0]-1) > 0.10 {
+		t.Errorf("%s = %.3f, want %.3f within 10 %%", multiplierKeys[0], got, fitTruth[0])
 	}
 	if r.Misfit > 0.02 {
 		t.Errorf("misfit %.4g, want ≤ 0.02", r.Misfit)
