@@ -8,6 +8,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 	"time"
 
@@ -26,6 +28,7 @@ type fitOpts struct {
 	out      string
 	seeds    int
 	maxEvals int
+	fix      []string
 }
 
 // Defaults of gelspace fit: a 40³ box, three seeds, 120 evaluations.
@@ -42,6 +45,7 @@ func fitCommand() *command {
 		summary: "calibrate the kinetic multipliers to a measured isothermal calorimetry curve",
 		examples: `  gelspace fit testdata/fit/rw-g-heat-20c.csv --out fit-rw-g      # embedded default mix
   gelspace fit lab.csv --config my.toml --seeds 4 --max-evals 200 --out fit
+  gelspace fit lab.csv --fix through_product_scale=1 --out fit      # hold a known multiplier
 MEASURED.csv: a header row with time_h and one of heat_j_per_g (cumulative, J/g of
 cement), heat_flow_mw_per_g (mW/g) or alpha (degree of hydration); at least 5 rows,
 times increasing, cumulative curves never decreasing. The config gives the mix and
@@ -54,6 +58,7 @@ Writes DIR/fit.toml (a [kinetics] fragment to paste into the config), fit.json a
 			fs.StringVarP(&o.out, "out", "o", "gelspace-fit", "output folder")
 			fs.IntVar(&o.seeds, "seeds", fitDefaultSeeds, "boxes (seeds) averaged per evaluation, 1–16")
 			fs.IntVar(&o.maxEvals, "max-evals", fitDefaultEvals, "model evaluations at most, 10–10000")
+			fs.StringArrayVar(&o.fix, "fix", nil, "hold a multiplier at a known value: KEY=VALUE, KEY one of dissolution_scale, nucleation_scale, through_product_scale (repeatable)")
 			addConfigFlags(fs, &o.configFlags)
 			return o
 		},
@@ -72,6 +77,10 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	}
 	if o.maxEvals < 10 || o.maxEvals > 10000 {
 		return &usageError{fmt.Sprintf("fit: --max-evals %d: must be between 10 and 10000", o.maxEvals)}
+	}
+	fixed, fixSets, err := parseFixes(o.fix)
+	if err != nil {
+		return err
 	}
 	curve, err := readMeasured(fs.Arg(0))
 	if err != nil {
@@ -92,12 +101,13 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	// dropped (fit records none).
 	last := curve.TimeH[len(curve.TimeH)-1]
 	sets = append(sets, fmt.Sprintf("curing.until_h=%g", last), "output.times_h=[]")
+	sets = append(sets, fixSets...)
 	cfg, err := LoadConfig(o.config, sets)
 	if err != nil {
 		return err
 	}
 	start := time.Now()
-	res, err := fitCurve(cfg, curve, o.seeds, fitSettings{MaxEvals: o.maxEvals, Simplex: 0.4, Tol: 1e-4})
+	res, err := fitCurve(cfg, curve, o.seeds, fitSettings{MaxEvals: o.maxEvals, Simplex: 0.4, Tol: 1e-4, Fixed: fixed, Staged: true})
 	if err != nil {
 		return err
 	}
@@ -111,7 +121,7 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 			res.Misfit, res.MisfitStart, filepath.Join(o.out, "fit.toml"))
 		var weak []string
 		for _, k := range multiplierKeys {
-			if !res.Determined[k] {
+			if !res.Determined[k] && !slices.Contains(res.Fixed, k) {
 				weak = append(weak, k)
 			}
 		}
@@ -122,6 +132,29 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	return nil
 }
 
+// parseFixes reads the --fix values: which multipliers are held, and the
+// config settings (kinetics.KEY=VALUE) that hold them.
+func parseFixes(fix []string) (fixed [3]bool, sets []string, err error) {
+	for _, f := range fix {
+		key, val, ok := strings.Cut(f, "=")
+		key = strings.TrimPrefix(strings.TrimSpace(key), "kinetics.")
+		i := slices.Index(multiplierKeys[:], key)
+		if !ok || i < 0 {
+			return fixed, nil, &usageError{fmt.Sprintf("fit: --fix %q: want KEY=VALUE with KEY one of %s", f, strings.Join(multiplierKeys[:], ", "))}
+		}
+		v, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
+		if err != nil || !(v > 0 && v <= 1000) {
+			return fixed, nil, &usageError{fmt.Sprintf("fit: --fix %s=%s: the value must be a number > 0 and ≤ 1000", key, val)}
+		}
+		if fixed[i] {
+			return fixed, nil, &usageError{fmt.Sprintf("fit: --fix %s given twice", key)}
+		}
+		fixed[i] = true
+		sets = append(sets, fmt.Sprintf("kinetics.%s=%g", key, v))
+	}
+	return fixed, sets, nil
+}
+
 // fitCurve packs the boxes, runs the search from the config's multipliers
 // and returns fit.json's content.
 func fitCurve(cfg *Config, curve *measuredCurve, seeds int, s fitSettings) (*FitResult, error) {
@@ -129,9 +162,10 @@ func fitCurve(cfg *Config, curve *measuredCurve, seeds int, s fitSettings) (*Fit
 	if err != nil {
 		return nil, err
 	}
+	ft := newFitTarget(curve)
 	k := cfg.Kinetics
 	x0 := Multipliers{k.DissolutionScale, k.NucleationScale, k.ThroughProductScale}
-	best, f, f0, evals, status, err := fitKinetics(m, curve, x0, s)
+	best, f, f0, evals, status, err := fitKinetics(m, ft, x0, s)
 	if err != nil {
 		return nil, err
 	}
@@ -142,13 +176,20 @@ func fitCurve(cfg *Config, curve *measuredCurve, seeds int, s fitSettings) (*Fit
 	r := &FitResult{Version: version, Caution: render.Caution, Measured: curve.File, Kind: curve.Kind, Config: cfg.Source,
 		Rows: len(curve.TimeH), Box: cfg.Box.Voxels, Seeds: m.seeds, Start: map[string]float64{}, Fitted: map[string]float64{},
 		MisfitStart: f0, Misfit: f, Evaluations: evals, Status: status, TimeH: curve.TimeH, MeasuredValue: curve.Value}
-	sens, err := sensitivity(m, curve, best)
+	parts := ft.misfitParts(model)
+	r.MisfitParts = map[string]float64{"heat": parts.Heat, "log_flow": parts.Flow, "log_time": parts.Time}
+	r.GridPoints = len(ft.gridH)
+	r.Fixed = []string{}
+	sens, err := sensitivity(m, ft, best)
 	if err != nil {
 		return nil, err
 	}
 	r.Sensitivity, r.Determined = map[string][2]float64{}, map[string]bool{}
 	for i, key := range multiplierKeys {
 		r.Start[key], r.Fitted[key] = x0[i], best[i]
+		if s.Fixed[i] {
+			r.Fixed = append(r.Fixed, key)
+		}
 		r.Sensitivity[key] = sens[i]
 		r.Determined[key] = sens[i][0] >= 2*f && sens[i][1] >= 2*f
 	}
@@ -181,7 +222,9 @@ func writeFitOutputs(dir string, r *FitResult) error {
 	t.WriteString("# Paste into the run config (replacing any [kinetics] scales there).\n[kinetics]\n")
 	for _, k := range multiplierKeys {
 		note := ""
-		if !r.Determined[k] {
+		if slices.Contains(r.Fixed, k) {
+			note = "  # held (--fix)"
+		} else if !r.Determined[k] {
 			note = "  # poorly determined by this curve (fit.json: sensitivity)"
 		}
 		fmt.Fprintf(&t, "%s = %.4g%s\n", k, r.Fitted[k], note)

@@ -9,10 +9,12 @@ package main
 // packed once each with fixed seeds; every evaluation hydrates clones of
 // the same packed grids, so the objective is a deterministic function of
 // the three multipliers and is smooth enough for a simplex search. The
-// misfit is the root mean square of model − measured over the measured
-// rows, divided by the largest measured value (so heat and α fit alike).
-// Nelder–Mead (gonum/optimize) searches in log-multiplier space from the
-// config's values.
+// misfit (fitTarget) weighs the features of the curve that the three
+// multipliers move apart: cumulative heat, log heat flow and the log times
+// at which the heat reaches fractions of its final value, on a log-spaced
+// time grid. Nelder–Mead (gonum/optimize) searches in log-multiplier space
+// from the config's values, one multiplier at a time first, then all the
+// free ones together.
 
 import (
 	"encoding/csv"
@@ -21,6 +23,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
@@ -259,22 +262,188 @@ func (m *fitModel) curve(x Multipliers) ([]float64, error) {
 	return avg, nil
 }
 
-// misfit is the RMS of model − measured over the rows, divided by the
-// largest measured value; with fromFirst both curves count from their
-// first row.
-func misfit(model []float64, c *measuredCurve) float64 {
-	off := 0.0
-	if c.FromFirst {
-		off = model[0]
-	}
-	var ss, top float64
-	for i, v := range c.Value {
-		d := model[i] - off - v
-		ss += d * d
-		top = math.Max(top, math.Abs(v))
-	}
-	return math.Sqrt(ss/float64(len(c.Value))) / top
+// The misfit weighs the three features of an isothermal calorimetry curve
+// that the three multipliers move apart: the time of the main peak
+// (nucleation), its height and width (dissolution) and the slow tail after
+// a day or two (through-product). Both curves — the measured one and the
+// model's at the measured rows — are interpolated linearly onto the same
+// log-spaced grid (fitPerDecade points per decade from fitGridStartH, or
+// the first row, to the last row), so early hours and late days count
+// alike, and the misfit is
+//
+//	f = sqrt(e_Q² + w_F·e_F² + w_T·e_T²)
+//	e_Q  RMS over the grid of (Q_model − Q_meas) / Q_meas,end (cumulative)
+//	e_F  RMS over the grid intervals of ln(F_model + F₀) − ln(F_meas + F₀),
+//	     F the flow from grid differences of Q smoothed by (1, 2, 1)/4,
+//	     F₀ = fitFlowFloor × the largest measured F: the log weighs the
+//	     tail flow (a hundredth of the peak) as much as the peak
+//	e_T  RMS of ln t_model − ln t_meas, t the time at which Q reaches
+//	     10, 25, 50 and 75 % of Q_meas,end
+const (
+	fitGridStartH = 0.5
+	fitPerDecade  = 20
+	fitFlowFloor  = 0.003
+	fitWeightFlow = 1.0
+	fitWeightTime = 1.0
+)
+
+// fitFractions are the fractions of the final measured value whose times
+// enter e_T.
+var fitFractions = [4]float64{0.10, 0.25, 0.50, 0.75}
+
+// fitTarget is a measured curve prepared for the misfit.
+type fitTarget struct {
+	c     *measuredCurve
+	gridH []float64 // comparison times, h
+	q     []float64 // measured Q on the grid
+	end   float64   // measured Q at the last row (> 0)
+	lflow []float64 // ln(F + F₀) of the measured curve per grid interval
+	floor float64   // F₀
+	lt    [len(fitFractions)]float64
+	// buffers reused by misfit
+	bq, bf []float64
 }
+
+// misfitParts are the terms of the misfit.
+type misfitParts struct {
+	Heat, Flow, Time float64
+}
+
+// Total is sqrt(e_Q² + w_F·e_F² + w_T·e_T²).
+func (p misfitParts) Total() float64 {
+	return math.Sqrt(p.Heat*p.Heat + fitWeightFlow*p.Flow*p.Flow + fitWeightTime*p.Time*p.Time)
+}
+
+// newFitTarget builds the comparison grid and the measured terms.
+func newFitTarget(c *measuredCurve) *fitTarget {
+	n := len(c.TimeH)
+	t0, t1 := math.Max(fitGridStartH, c.TimeH[0]), c.TimeH[n-1]
+	if t0 >= t1 {
+		t0 = c.TimeH[0]
+	}
+	ft := &fitTarget{c: c}
+	step := math.Pow(10, 1.0/fitPerDecade)
+	for t := t0; t < t1/math.Pow(step, 0.5); t *= step {
+		ft.gridH = append(ft.gridH, t)
+	}
+	ft.gridH = append(ft.gridH, t1)
+	ft.end = c.Value[n-1] - ft.offset(c.Value)
+	ft.q = ft.onGrid(c.Value, nil)
+	f := ft.flow(ft.q, nil)
+	for _, v := range f {
+		ft.floor = math.Max(ft.floor, v)
+	}
+	ft.floor *= fitFlowFloor
+	if !(ft.floor > 0) {
+		ft.floor = 1e-12
+	}
+	ft.lflow = make([]float64, len(f))
+	for i, v := range f {
+		ft.lflow[i] = math.Log(math.Max(v, 0) + ft.floor)
+	}
+	for i, p := range fitFractions {
+		ft.lt[i] = ft.lnTimeAt(c.Value, p)
+	}
+	return ft
+}
+
+// offset is the value subtracted from a curve at the measured rows: its
+// first value for flow data (heat since the first row), else 0.
+func (ft *fitTarget) offset(v []float64) float64 {
+	if ft.c.FromFirst {
+		return v[0]
+	}
+	return 0
+}
+
+// onGrid interpolates v (at the measured rows, less its offset) linearly
+// onto the grid, into dst.
+func (ft *fitTarget) onGrid(v, dst []float64) []float64 {
+	off := ft.offset(v)
+	dst = dst[:0]
+	j := 0
+	ts := ft.c.TimeH
+	for _, t := range ft.gridH {
+		for j < len(ts)-2 && ts[j+1] < t {
+			j++
+		}
+		w := (t - ts[j]) / (ts[j+1] - ts[j])
+		w = math.Max(0, math.Min(1, w))
+		dst = append(dst, v[j]+(v[j+1]-v[j])*w-off)
+	}
+	return dst
+}
+
+// flow is the smoothed rate of q per grid interval, per h, into dst.
+func (ft *fitTarget) flow(q, dst []float64) []float64 {
+	n := len(q) - 1
+	raw := make([]float64, n)
+	for i := range n {
+		raw[i] = (q[i+1] - q[i]) / (ft.gridH[i+1] - ft.gridH[i])
+	}
+	dst = dst[:0]
+	for i := range n {
+		s, w := 2*raw[i], 2.0
+		if i > 0 {
+			s, w = s+raw[i-1], w+1
+		}
+		if i < n-1 {
+			s, w = s+raw[i+1], w+1
+		}
+		dst = append(dst, s/w)
+	}
+	return dst
+}
+
+// lnTimeAt is ln of the time at which v (at the measured rows, less its
+// offset) first reaches p × the measured final value, by linear
+// interpolation between rows; a curve that stays below it is charged as if
+// it got there later, in proportion to the shortfall.
+func (ft *fitTarget) lnTimeAt(v []float64, p float64) float64 {
+	off := ft.offset(v)
+	goal := p * ft.end
+	ts := ft.c.TimeH
+	if v[0]-off >= goal {
+		return math.Log(ts[0])
+	}
+	for i := 1; i < len(v); i++ {
+		if a, b := v[i-1]-off, v[i]-off; b >= goal {
+			return math.Log(ts[i-1] + (ts[i]-ts[i-1])*(goal-a)/(b-a))
+		}
+	}
+	short := (goal - (v[len(v)-1] - off)) / ft.end
+	return math.Log(ts[len(ts)-1]) + 5*short
+}
+
+// misfitParts compares the model's values at the measured rows with the
+// measured curve.
+func (ft *fitTarget) misfitParts(model []float64) misfitParts {
+	if len(model) != len(ft.c.TimeH) {
+		panic(fmt.Sprintf("gelspace: misfit of %d model values against %d rows", len(model), len(ft.c.TimeH)))
+	}
+	ft.bq = ft.onGrid(model, ft.bq)
+	ft.bf = ft.flow(ft.bq, ft.bf)
+	var p misfitParts
+	for i, v := range ft.bq {
+		d := (v - ft.q[i]) / ft.end
+		p.Heat += d * d
+	}
+	p.Heat = math.Sqrt(p.Heat / float64(len(ft.bq)))
+	for i, v := range ft.bf {
+		d := math.Log(math.Max(v, 0)+ft.floor) - ft.lflow[i]
+		p.Flow += d * d
+	}
+	p.Flow = math.Sqrt(p.Flow / float64(len(ft.bf)))
+	for i, f := range fitFractions {
+		d := ft.lnTimeAt(model, f) - ft.lt[i]
+		p.Time += d * d
+	}
+	p.Time = math.Sqrt(p.Time / float64(len(fitFractions)))
+	return p
+}
+
+// misfit is misfitParts(model).Total().
+func (ft *fitTarget) misfit(model []float64) float64 { return ft.misfitParts(model).Total() }
 
 // FitResult is fit.json.
 type FitResult struct {
@@ -290,16 +459,21 @@ type FitResult struct {
 	// through-product), as kinetics.*_scale.
 	Start  map[string]float64 `json:"start"`
 	Fitted map[string]float64 `json:"fitted"`
-	// MisfitStart and Misfit are the relative RMS misfits (RMS of model −
-	// measured over the largest measured value) at the start and at the
-	// fit; RMS in the curve's own unit (J/g or α) beside them.
-	MisfitStart float64 `json:"misfit_start"`
-	Misfit      float64 `json:"misfit"`
-	RMS         float64 `json:"rms"`
-	RMSUnit     string  `json:"rms_unit"`
-	Evaluations int     `json:"evaluations"`
-	Status      string  `json:"status"`
-	WallS       float64 `json:"wall_s"`
+	// Fixed lists the multipliers held at their start value (--fix).
+	Fixed []string `json:"fixed"`
+	// MisfitStart and Misfit are the misfits (see fitTarget: heat, log
+	// flow and log feature times on a log-spaced grid) at the start and at
+	// the fit, MisfitParts the fit's three terms; RMS is the plain RMS of
+	// model − measured over the rows in the curve's own unit (J/g or α).
+	MisfitStart float64            `json:"misfit_start"`
+	Misfit      float64            `json:"misfit"`
+	MisfitParts map[string]float64 `json:"misfit_parts"`
+	GridPoints  int                `json:"grid_points"`
+	RMS         float64            `json:"rms"`
+	RMSUnit     string             `json:"rms_unit"`
+	Evaluations int                `json:"evaluations"`
+	Status      string             `json:"status"`
+	WallS       float64            `json:"wall_s"`
 	// TimeH, MeasuredValue and FittedValue are the curves compared.
 	// Sensitivity is, per multiplier, the misfit with that multiplier
 	// alone set to 0.8 and 1.25 times its fitted value; Determined says
@@ -319,16 +493,22 @@ type fitSettings struct {
 	MaxEvals int     // function evaluations at most (each hydrates every seed)
 	Simplex  float64 // initial simplex size in log space
 	Tol      float64 // stop when the best misfit improves by less than this over a few iterations
+	// Fixed holds a multiplier at its start value.
+	Fixed [3]bool
+	// Staged searches one multiplier at a time first — nucleation (the
+	// time of the peak), then dissolution (its height), then
+	// through-product (the tail) — and all free ones together from there.
+	Staged bool
 }
 
-// fitKinetics minimises the misfit over the three multipliers in log
-// space with Nelder–Mead, from start. It returns the best multipliers,
-// their misfit, the misfit at the start, the evaluation count and
-// gonum's termination status.
-func fitKinetics(m *fitModel, c *measuredCurve, start Multipliers, s fitSettings) (best Multipliers, fbest, fstart float64, evals int, status string, err error) {
+// fitKinetics minimises the misfit over the free multipliers in log space
+// with Nelder–Mead, from start. It returns the best multipliers, their
+// misfit, the misfit at the start, the evaluation count and gonum's
+// termination status of the last search.
+func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (best Multipliers, fbest, fstart float64, evals int, status string, err error) {
 	var evalErr error
 	lim := math.Log(fitRange)
-	f := func(lx []float64) float64 {
+	full := func(lx []float64) float64 {
 		var x Multipliers
 		for i := range x {
 			if math.Abs(lx[i]) > lim {
@@ -344,49 +524,91 @@ func fitKinetics(m *fitModel, c *measuredCurve, start Multipliers, s fitSettings
 			}
 			return math.Inf(1)
 		}
-		return misfit(v, c)
+		return ft.misfit(v)
 	}
-	fstart = f([]float64{0, 0, 0})
+	cur := []float64{0, 0, 0}
+	fstart = full(cur)
 	if evalErr != nil {
 		return best, 0, 0, evals, "", evalErr
 	}
-	// Nelder–Mead, restarted from its best point with a fresh simplex of
-	// half the size while evaluations remain: a restart rebuilds a
-	// simplex that collapsed on a rough objective.
-	x, fx := []float64{0, 0, 0}, fstart
-	size := s.Simplex
-	for round := 0; round < 3 && evals < s.MaxEvals; round++ {
-		res, err := optimize.Minimize(optimize.Problem{Func: f}, x,
-			&optimize.Settings{
-				InitValues:      &optimize.Location{F: fx},
-				FuncEvaluations: s.MaxEvals - evals,
-				Converger:       &optimize.FunctionConverge{Absolute: s.Tol, Relative: 0, Iterations: 12},
-			},
-			&optimize.NelderMead{SimplexSize: size})
-		if evalErr != nil {
-			return best, 0, 0, evals, "", evalErr
+	fcur := fstart
+	// search runs Nelder–Mead over the multipliers idx from cur, restarted
+	// from its best point with a fresh simplex of half the size while
+	// rounds and evaluations remain (a restart rebuilds a simplex that
+	// collapsed on a rough objective); it keeps the best point in cur.
+	search := func(idx []int, budget, rounds int) error {
+		sub := func(y []float64) float64 {
+			lx := slices.Clone(cur)
+			for k, i := range idx {
+				lx[i] = y[k]
+			}
+			return full(lx)
 		}
-		if res == nil {
+		stop := min(s.MaxEvals, evals+budget)
+		size := s.Simplex
+		for round := 0; round < rounds && evals < stop; round++ {
+			y := make([]float64, len(idx))
+			for k, i := range idx {
+				y[k] = cur[i]
+			}
+			res, err := optimize.Minimize(optimize.Problem{Func: sub}, y,
+				&optimize.Settings{
+					InitValues:      &optimize.Location{F: fcur},
+					FuncEvaluations: stop - evals,
+					Converger:       &optimize.FunctionConverge{Absolute: s.Tol, Relative: 0, Iterations: 12},
+				},
+				&optimize.NelderMead{SimplexSize: size})
+			if evalErr != nil {
+				return evalErr
+			}
+			if res == nil {
+				return err
+			}
+			status = res.Status.String()
+			if err != nil && res.Status != optimize.FunctionEvaluationLimit {
+				status += ": " + err.Error()
+			}
+			if res.F <= fcur {
+				for k, i := range idx {
+					cur[i] = res.X[k]
+				}
+				fcur = res.F
+			}
+			size /= 2
+		}
+		return nil
+	}
+	var free []int
+	for i := range cur {
+		if !s.Fixed[i] {
+			free = append(free, i)
+		}
+	}
+	if len(free) > 0 {
+		if s.Staged && len(free) > 1 {
+			for _, i := range []int{1, 0, 2} { // nucleation, dissolution, through-product
+				if !s.Fixed[i] {
+					if err := search([]int{i}, s.MaxEvals/8, 2); err != nil {
+						return best, 0, 0, evals, "", err
+					}
+				}
+			}
+		}
+		if err := search(free, s.MaxEvals, 3); err != nil {
 			return best, 0, 0, evals, "", err
 		}
-		status = res.Status.String()
-		if err != nil && res.Status != optimize.FunctionEvaluationLimit {
-			status += ": " + err.Error()
-		}
-		if res.F <= fx {
-			x, fx = res.X, res.F
-		}
-		size /= 2
+	} else {
+		status = "nothing to fit: every multiplier is fixed"
 	}
 	for i := range best {
-		best[i] = start[i] * math.Exp(x[i])
+		best[i] = start[i] * math.Exp(cur[i])
 	}
-	return best, fx, fstart, evals, status, nil
+	return best, fcur, fstart, evals, status, nil
 }
 
 // sensitivity returns the misfit with each multiplier alone set to 0.8
 // and 1.25 times its value in best.
-func sensitivity(m *fitModel, c *measuredCurve, best Multipliers) ([3][2]float64, error) {
+func sensitivity(m *fitModel, ft *fitTarget, best Multipliers) ([3][2]float64, error) {
 	var out [3][2]float64
 	for i := range best {
 		for j, f := range []float64{0.8, 1.25} {
@@ -396,7 +618,7 @@ func sensitivity(m *fitModel, c *measuredCurve, best Multipliers) ([3][2]float64
 			if err != nil {
 				return out, err
 			}
-			out[i][j] = misfit(v, c)
+			out[i][j] = ft.misfit(v)
 		}
 	}
 	return out, nil

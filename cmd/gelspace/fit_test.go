@@ -79,10 +79,10 @@ func TestFitRecoversSynthetic(t *testing.T) {
 		t.Fatal(err)
 	}
 	c := &measuredCurve{TimeH: times, Value: ref, Kind: kindHeat}
-	if f := misfit(ref, c); f != 0 {
+	if f := newFitTarget(c).misfit(ref); f != 0 {
 		t.Fatalf("misfit of the model against itself = %g, want 0 (the model is deterministic)", f)
 	}
-	best, f, f0, evals, status, err := fitKinetics(m, c, Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.3, Tol: 1e-4})
+	best, f, f0, evals, status, err := fitKinetics(m, newFitTarget(c), Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.3, Tol: 1e-4})
 	if err != nil {
 		t.Fatal(err)
 	}
