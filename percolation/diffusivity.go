@@ -109,6 +109,7 @@ type Solver struct {
 	agg, uf     []int32      // multigrid: aggregate of each fine voxel; union–find scratch
 	mgColour    int          // colour of the fine half sweep
 	mgFirst     bool         // the fine half sweep starts from z = 0
+	mgReverse   bool         // the fine half sweep runs in reverse order (improper colouring)
 	resColour   int          // colour of the fine residual, or −1 for all voxels
 	mvIn, mvOut []float64    // vectors of matvec
 	jacobiOnly  bool         // tests: Jacobi preconditioner alone
@@ -289,6 +290,7 @@ const (
 	passSetup = iota
 	passMatvec
 	passUpdate
+	passUpdateMG
 	passDirection
 	passMGSweep
 	passMGResidual
@@ -350,6 +352,8 @@ func (s *Solver) pass(z0, z1 int) {
 		s.matvec(z0, z1)
 	case passUpdate:
 		s.update(z0, z1)
+	case passUpdateMG:
+		s.updateMG(z0, z1)
 	case passDirection:
 		s.direction(z0, z1)
 	default:
@@ -396,7 +400,7 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 	}
 	useMG := len(s.mg) > 0
 	if useMG && bb > 0 {
-		rho = s.mgPrecond()
+		rho = s.mgPrecond(false)
 		copy(s.p, s.z)
 	}
 	e := c0
@@ -419,14 +423,18 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 			}
 			s.alpha = rho / pq
 			e -= s.alpha * rho
-			s.parallel(passUpdate)
+			if useMG && s.fine.coloured() {
+				s.parallel(passUpdateMG)
+			} else {
+				s.parallel(passUpdate)
+			}
 			rz, rr, _ := s.sums()
 			rel = math.Sqrt(rr) / bnorm
 			if rel <= tol {
 				break
 			}
 			if useMG {
-				rz = s.mgPrecond()
+				rz = s.mgPrecond(s.fine.coloured())
 				s.beta = rz / rho
 				rho = rz
 				s.parallel(passMGDirection)
@@ -669,6 +677,34 @@ func (s *Solver) update(z0, z1 int) {
 			rz += float64(m[i]) * ri * ri
 		}
 		s.part[z] = [3]float64{rz, rr, 0}
+	}
+}
+
+// updateMG does r −= αq on the planes [z0, z1), with part = (0, r·r, 0),
+// and starts the multigrid pre-smoothing: z = D⁻¹r on red, 0 on black
+// (the first half sweep from z = 0).
+func (s *Solver) updateMG(z0, z1 int) {
+	nx, ny := s.box.NX, s.box.NY
+	alpha := s.alpha
+	for z := z0; z < z1; z++ {
+		var rr float64
+		for y := range ny {
+			lo := nx * (y + ny*z)
+			r := s.r[lo : lo+nx]
+			q, d, x := s.q[lo : lo+nx][:len(r)], s.dg[lo : lo+nx][:len(r)], s.z[lo : lo+nx][:len(r)]
+			red := (y + z) & 1
+			for i, ri := range r {
+				ri -= alpha * q[i]
+				r[i] = ri
+				rr += ri * ri
+				var v float64
+				if i&1 == red && d[i] != 0 {
+					v = ri / d[i]
+				}
+				x[i] = v
+			}
+		}
+		s.part[z] = [3]float64{0, rr, 0}
 	}
 }
 

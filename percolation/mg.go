@@ -15,8 +15,10 @@ package percolation
 // red ones, so that the sequence of half sweeps of the whole cycle is a
 // palindrome and the cycle a symmetric positive definite operator. On an
 // odd periodic edge two voxels of one colour meet across the face; the half
-// sweep then runs in a fixed order over the whole level (one worker), so
-// that the result never depends on the number of workers. The coarsest
+// sweeps then run on one worker over the whole level, in raster order
+// before the coarse correction and in reverse raster order (the adjoint)
+// after it, which keeps the cycle symmetric and the result independent of
+// the number of workers. The coarsest
 // level (at most mgCoarsestLen blocks) is smoothed by mgCoarseSweeps
 // red–black pairs, again in palindromic order. Boxes of at most
 // mgCoarsestLen voxels use the Jacobi diagonal alone.
@@ -85,9 +87,11 @@ func (lv *mgLevel) offsets(y, z int) (row, ym, yp, zm, zp int) {
 // sweep does a half sweep of Gauss–Seidel on A x = f over the voxels of
 // colour c in the planes [z0, z1),
 //
-//	x_i = (f_i + Σ_j g_ij x_j) / A_ii,
+//	x_i = (f_i + Σ_j g_ij x_j) / A_ii
 //
-// or, when first, sets x = D⁻¹f on colour c and x = 0 on the other colour
+// (a division by the double-precision diagonal, so that the half sweep is
+// exactly Gauss–Seidel and the cycle symmetric to rounding), or, when
+// first, sets x = D⁻¹f on colour c and x = 0 on the other colour
 // (the half sweep from x = 0). It returns, per plane in part when part is
 // not nil, Σ f_i x_i over the voxels updated.
 func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][3]float64) {
@@ -100,13 +104,16 @@ func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][
 			x0 := (c + y + z) & 1
 			xr := x[row : row+nx]
 			n := len(xr)
-			fr, mr := f[row : row+nx][:n], lv.invd[row : row+nx][:n]
+			fr, mr := f[row : row+nx][:n], lv.diag[row : row+nx][:n]
 			if first {
 				for i := range xr {
 					xr[i] = 0
 				}
 				for i := x0; i < n; i += 2 {
-					v := float64(mr[i]) * fr[i]
+					if mr[i] == 0 {
+						continue
+					}
+					v := fr[i] / mr[i]
 					xr[i] = v
 					fx += fr[i] * v
 				}
@@ -129,7 +136,7 @@ func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][
 				v := fr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
 					float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
 					float64(gzr[i])*xzp[i] + float64(gzm[i])*xzm[i]
-				v *= float64(m)
+				v /= m
 				xr[i] = v
 				fx += fr[i] * v
 			}
@@ -584,9 +591,15 @@ func (s *Solver) mgBuild() {
 // r·z. z is 0 off the active set. The fine-level passes run over z planes
 // with per-plane sums, like the rest of the solve; the half sweeps run on
 // one worker when the colouring is not proper (see above).
-func (s *Solver) mgPrecond() float64 {
+//
+// started says that the first half sweep (z = D⁻¹r on red, 0 on black)
+// was done already, by the residual update of conjugate gradients.
+func (s *Solver) mgPrecond(started bool) float64 {
 	for k := range 2 * mgFineSweeps {
-		s.mgColour, s.mgFirst = k&1, k == 0
+		if k == 0 && started {
+			continue
+		}
+		s.mgColour, s.mgFirst, s.mgReverse = k&1, k == 0, false
 		s.sweepPass()
 	}
 	// After the black half sweep the residual vanishes on the black voxels
@@ -604,7 +617,7 @@ func (s *Solver) mgPrecond() float64 {
 		if k == 2*mgFineSweeps-2 {
 			clear(s.part) // r·z over the last pair, which sets every voxel
 		}
-		s.mgColour, s.mgFirst = (k+1)&1, false
+		s.mgColour, s.mgFirst, s.mgReverse = (k+1)&1, false, true
 		s.sweepPass()
 	}
 	rz, _, _ := s.sums()
@@ -618,7 +631,56 @@ func (s *Solver) sweepPass() {
 		s.parallel(passMGSweep)
 		return
 	}
-	s.fine.sweep(s.z, s.r, s.mgColour, s.mgFirst, 0, s.box.NZ, s.part)
+	if s.mgFirst {
+		clear(s.z)
+	}
+	s.fine.sweepOrdered(s.z, s.r, s.mgColour, s.mgReverse, s.part)
+}
+
+// sweepOrdered is the half sweep of colour c for a level whose colouring
+// is not proper: Gauss–Seidel over the voxels of colour c in raster order,
+// or in reverse raster order (its adjoint) when reverse, on the whole
+// level. It adds Σ f_i x_i per plane to part when part is not nil.
+func (lv *mgLevel) sweepOrdered(x, f []float64, c int, reverse bool, part [][3]float64) {
+	nx, ny, nz := lv.nx, lv.ny, lv.nz
+	gx, gy, gz := lv.g[0], lv.g[1], lv.g[2]
+	for zz := range nz {
+		z := zz
+		if reverse {
+			z = nz - 1 - zz
+		}
+		var fx float64
+		for yy := range ny {
+			y := yy
+			if reverse {
+				y = ny - 1 - yy
+			}
+			row, ym, yp, zm, zp := lv.offsets(y, z)
+			for xx := range nx {
+				i := xx
+				if reverse {
+					i = nx - 1 - xx
+				}
+				if (c+i+y+z)&1 != 0 {
+					continue
+				}
+				m := lv.diag[row+i]
+				if m == 0 {
+					continue
+				}
+				ip, im := (i+1)%nx, (i+nx-1)%nx
+				v := f[row+i] + float64(gx[row+i])*x[row+ip] + float64(gx[row+im])*x[row+im] +
+					float64(gy[row+i])*x[yp+i] + float64(gy[ym+i])*x[ym+i] +
+					float64(gz[row+i])*x[zp+i] + float64(gz[zm+i])*x[zm+i]
+				v /= m
+				x[row+i] = v
+				fx += f[row+i] * v
+			}
+		}
+		if part != nil {
+			part[z][0] += fx
+		}
+	}
 }
 
 // mgPass runs the fine-level multigrid pass op on the planes [z0, z1).
