@@ -87,17 +87,20 @@
 // the constant as a null vector; its right-hand side is consistent, and
 // conjugate gradients converge on it without pinning.
 //
-// The linear system is solved matrix-free by preconditioned conjugate
-// gradients from w = 0, the preconditioner being one V-cycle of
-// aggregation multigrid with damped-Jacobi smoothing (see mg.go; a box of at
-// most 512 voxels uses the Jacobi diagonal alone), until the relative
-// residual ‖b − Aw‖₂/‖b‖₂ falls below DiffusivityOptions.Tol (default 1e-6)
-// or the iteration cap is hit (an error, with the estimate reached). The
-// dissipation is tracked from the CG step lengths without storing w (see
-// Solver.axis). Passes run over contiguous ranges of z planes on
-// DiffusivityOptions.Workers goroutines; every sum is formed per plane and
-// added in plane order, so results are identical for any number of workers
-// or GOMAXPROCS.
+// The linear system is solved by preconditioned conjugate gradients from
+// w = 0, the preconditioner being one symmetric V-cycle of aggregation
+// multigrid, with aggregates that are the connected pieces of 2×2×2
+// blocks, Galerkin coarse operators and red–black Gauss–Seidel smoothing
+// (see mg.go; a box of at most 512 voxels uses the Jacobi diagonal alone),
+// until the relative residual ‖b − Aw‖₂/‖b‖₂ falls below
+// DiffusivityOptions.Tol (default 1e-6) or the iteration cap is hit (an
+// error, with the estimate reached). On the 28-day 100³ paste of testdata
+// this takes about 87 iterations per axis to 1e-6. The dissipation is
+// tracked from the CG step lengths without storing w (see Solver.axis).
+// The fine-level passes run over contiguous ranges of z planes on
+// DiffusivityOptions.Workers goroutines, the coarse levels on one; every
+// sum is formed per plane and added in plane order, so results are
+// identical for any number of workers or GOMAXPROCS.
 //
 // Conductances are stored in single precision (relative rounding 6e-8);
 // vectors and sums are in double precision.

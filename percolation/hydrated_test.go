@@ -54,7 +54,7 @@ var hydratedRel = [3]float64{0.0104677790275, 0.0112305162595, 0.0100279989936}
 // TestDiffusivityHydrated pins D/D0 of the 28-day paste of testdata, solved
 // to relative residual 1e-6 on one worker, to hydratedRel within 1e-6
 // relative: a regression check of the solver on a real paste (pores
-// conducting with 1, C-S-H with 1/400, with about half the box
+// conducting with 1, C-S-H with 1/400, with about a third of the box
 // insulating).
 func TestDiffusivityHydrated(t *testing.T) {
 	if testing.Short() {

@@ -1,38 +1,55 @@
 package percolation
 
 // The preconditioner of the diffusivity solve is one V-cycle of
-// aggregation multigrid. Level 0 is the voxel network restricted to the
-// active set; each coarser level merges 2×2×2 blocks of the level below (1
-// wide at an odd end). With piecewise-constant interpolation P the Galerkin
-// operator Pᵀ A P is again a conductance network on the blocks: the bond
-// between two blocks is the sum of the finer conductances between them, and
-// the diagonal is the sum of the finer diagonals less twice the bonds
-// inside the block.
+// aggregation multigrid.
 //
-// Every level smooths with red–black Gauss–Seidel, the colour of a voxel
+// Level 0 is the voxel network on the active set. Level 1 groups its voxels
+// into aggregates: the connected components, by bonds of nonzero
+// conductance, of each 2×2×2 block (1 wide at an odd end). A block cut in
+// two by insulating voxels thus gives two aggregates, and no aggregate ties
+// together voxels that are joined only through far-away paths (about 7 %
+// of the occupied blocks of a 28-day 100³ paste are cut; merging them, as
+// plain geometric aggregation does, cost 1.6 times the iterations). Each
+// further level groups the aggregates of the level below in the same way,
+// by the 2×2×2 blocks of their block grid. With piecewise-constant
+// interpolation P the Galerkin operator Pᵀ A P is again a conductance
+// network on the aggregates, stored as compressed sparse rows: the bond
+// between two aggregates is the sum of the finer conductances between them,
+// and the diagonal is the sum of the finer diagonals less twice the bonds
+// inside the aggregate.
+//
+// The fine level smooths with red–black Gauss–Seidel, the colour of a voxel
 // being the parity of x + y + z: before the coarse correction it updates
-// the red voxels and then the black ones, after it the black and then the
-// red ones, so that the sequence of half sweeps of the whole cycle is a
-// palindrome and the cycle a symmetric positive definite operator. On an
+// the red voxels (from z = 0) and then the black ones, after it the black
+// and then the red ones, so that the sequence of half sweeps is a
+// palindrome. After the black half sweep the residual vanishes on black, so
+// only the red residual is formed and restricted, and only red voxels take
+// the prolongated correction (the black ones are overwritten next). On an
 // odd periodic edge two voxels of one colour meet across the face; the half
 // sweeps then run on one worker over the whole level, in raster order
 // before the coarse correction and in reverse raster order (the adjoint)
-// after it, which keeps the cycle symmetric and the result independent of
-// the number of workers. The coarsest
-// level (at most mgCoarsestLen blocks) is smoothed by mgCoarseSweeps
-// red–black pairs, again in palindromic order. Boxes of at most
-// mgCoarsestLen voxels use the Jacobi diagonal alone.
+// after it, and every residual is formed. The coarse levels smooth with
+// mgSweeps forward Gauss–Seidel sweeps before and as many backward sweeps
+// after the correction below, and the coarsest level (at most
+// mgCoarsestLen aggregates, or no further grouping possible) with
+// mgCoarseSweeps symmetric sweeps from 0. Every smoothing step divides by
+// the double-precision diagonal, so the cycle is a symmetric positive
+// definite operator to rounding, as conjugate gradients need
+// (TestMGSymmetric). Boxes of at most mgCoarsestLen voxels use the Jacobi
+// diagonal alone.
 
+// mgLevel is the fine level: the voxel network seen through the solver's
+// arrays.
 type mgLevel struct {
 	nx, ny, nz int
 	g          [3][]float32 // bond i → i+k, wrapped; 0 across open faces and off the active set
 	diag       []float64    // diagonal of A, electrode links included
 	invd       []float32    // 1/diag, 0 where diag is 0 (off the active set)
-	f, x       []float64    // right-hand side, iterate
 }
 
 // Multigrid parameters: red–black Gauss–Seidel pairs before and after the
-// coarse correction on the fine level, Gauss–Seidel sweeps before and after
+// coarse correction on the fine level (more than one pair cost more time
+// than it saved in iterations), Gauss–Seidel sweeps before and after
 // it on the coarse levels, symmetric sweeps on the coarsest level, and the
 // size of the coarsest level.
 const (
@@ -43,18 +60,6 @@ const (
 )
 
 func (lv *mgLevel) len() int { return lv.nx * lv.ny * lv.nz }
-
-func (lv *mgLevel) resize(nx, ny, nz int) {
-	lv.nx, lv.ny, lv.nz = nx, ny, nz
-	n := nx * ny * nz
-	for k := range 3 {
-		lv.g[k] = grow(lv.g[k], n)
-	}
-	lv.diag = grow(lv.diag, n)
-	lv.invd = grow(lv.invd, n)
-	lv.f = grow(lv.f, n)
-	lv.x = grow(lv.x, n)
-}
 
 // coloured reports whether the parity of x + y + z is a proper two-colouring
 // of the level's bonds, which fails across an odd periodic edge.
@@ -555,7 +560,7 @@ func (s *Solver) vcycle(k int) {
 // network, masked to the active set, and the fine diagonal s.dg.
 func (s *Solver) mgBuild() {
 	s.mg = s.mg[:0]
-	s.fine = mgLevel{nx: s.box.NX, ny: s.box.NY, nz: s.box.NZ, g: s.g, diag: s.dg, invd: s.invd, f: s.r, x: s.z}
+	s.fine = mgLevel{nx: s.box.NX, ny: s.box.NY, nz: s.box.NZ, g: s.g, diag: s.dg, invd: s.invd}
 	if s.fine.len() <= mgCoarsestLen {
 		return
 	}
