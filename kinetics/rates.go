@@ -70,7 +70,9 @@ type Params struct {
 	// water), per hour.
 	AttemptPerH float64
 	// WalkSteps bounds one attempt; SpawnSteps bounds the first walk of a
-	// unit from the site where it dissolved.
+	// unit from the site where it dissolved. Both are stated for 1 µm
+	// voxels; the engine scales them by (1 µm / voxel edge)² so that a walk
+	// explores the same distance (about √steps µm) at any resolution.
 	WalkSteps, SpawnSteps int
 	// ProductLengthUM is δ0 of the through-product law: a face covered by
 	// C-S-H dissolves at β/(1 + δ/δ0) of the bare rate, δ being the depth to

@@ -62,7 +62,8 @@
 //	CH nucleation                    J_CH · V_water · (c_CH/c_sat,CH − 1)²         [1/s]
 //	  J_CH 1e-5 per µm³ per h; c_sat,CH 0.004 voxels per voxel of water
 //	precipitation attempt            6 per h per dissolved unit; a walk of ≤ 250 steps
-//	                                 (≤ 400 from the dissolution site)
+//	                                 (≤ 400 from the dissolution site) at 1 µm voxels,
+//	                                 × (1 µm/h)² at other sizes: the same distance in µm
 //
 // Time-scale separation. Diffusion over a few µm takes milliseconds, far
 // less than any reaction time, so the steps of a walk take no clock time: a

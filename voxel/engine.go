@@ -48,6 +48,10 @@ type Engine struct {
 	arrNuc  float64
 	rates   []float64
 	rxIndex map[string]int
+	// walkSteps and spawnSteps are the walk lengths in steps of this voxel
+	// size: the parameters are stated for 1 µm voxels and scaled by
+	// (1 µm / h)², so that a walk explores the same distance in µm.
+	walkSteps, spawnSteps int
 	// partInit is the number of anhydrous voxels of each grain at the start,
 	// by particle id.
 	partInit []int32
@@ -134,6 +138,9 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	}
 	e := &Engine{g: g, p: set.Params, thermal: set.Thermal, sealed: set.Sealed}
 	e.voxCM3 = math.Pow(g.VoxelUM*1e-4, 3)
+	scale := 1 / (g.VoxelUM * g.VoxelUM)
+	e.walkSteps = max(1, int(math.Round(float64(e.p.WalkSteps)*scale)))
+	e.spawnSteps = max(1, int(math.Round(float64(e.p.SpawnSteps)*scale)))
 	e.rxIndex = map[string]int{}
 	for i, r := range kinetics.Reactions() {
 		e.rxIndex[r.Key] = i

@@ -297,7 +297,7 @@ func (e *Engine) react(i, rx int) {
 			continue
 		}
 		for ; n > 0; n-- {
-			pos, ok := e.walk(int32(i), e.rules[term.Phase], term.Phase, e.p.SpawnSteps)
+			pos, ok := e.walk(int32(i), e.rules[term.Phase], term.Phase, e.spawnSteps)
 			if !ok {
 				e.addFree(term.Phase, pos, 0)
 			}
@@ -531,7 +531,7 @@ func (e *Engine) attempt(q kinetics.ID) {
 	if fails[k] >= maxFails && e.productAbundant(q) {
 		rule = &e.anySolid
 	}
-	pos, ok := e.walk(free[k], rule, q, e.p.WalkSteps)
+	pos, ok := e.walk(free[k], rule, q, e.walkSteps)
 	if ok {
 		e.removeFree(q, k)
 		return
