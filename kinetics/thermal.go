@@ -13,6 +13,10 @@ const (
 	Adiabatic  = "adiabatic"
 )
 
+// MaxTempC caps the adiabatic temperature: the kinetics are not meant for
+// pore water near boiling, so an adiabatic paste stops warming at 95 °C.
+const MaxTempC = 95.0
+
 // SchedulePoint is one row of a temperature schedule.
 type SchedulePoint struct {
 	TimeH, TempC float64
@@ -24,8 +28,9 @@ type Thermal struct {
 	Mode  string          // Isothermal (default when empty), Schedule or Adiabatic
 	TempC float64         // isothermal temperature, or the start of an adiabatic run
 	Steps []SchedulePoint // Schedule: linear between points, constant beyond the ends
-	// HeatCapacityJPerGK is the heat capacity of the paste per gram of
-	// cement (cement plus its share of water), for Adiabatic.
+	// HeatCapacityJPerGK is the heat capacity of what warms with the paste
+	// per gram of cement (cement plus its water, and aggregate in a
+	// concrete), for Adiabatic.
 	HeatCapacityJPerGK float64
 }
 
@@ -52,7 +57,7 @@ func (th *Thermal) Validate() error {
 		return fmt.Errorf("curing.temperature_c = %g: must be in [-10, 95]", th.TempC)
 	}
 	if th.Mode == Adiabatic && !(th.HeatCapacityJPerGK > 0) {
-		return fmt.Errorf("curing.heat_capacity_j_per_g_k = %g: must be > 0", th.HeatCapacityJPerGK)
+		return fmt.Errorf("curing.heat_capacity_j_per_k_per_g_cement = %g: must be > 0", th.HeatCapacityJPerGK)
 	}
 	return nil
 }
@@ -73,7 +78,7 @@ func (th *Thermal) At(timeH, heatJPerG float64) float64 {
 		}
 		return s[len(s)-1].TempC
 	case Adiabatic:
-		return th.TempC + heatJPerG/th.HeatCapacityJPerGK
+		return min(th.TempC+heatJPerG/th.HeatCapacityJPerGK, MaxTempC)
 	}
 	return th.TempC
 }

@@ -99,9 +99,12 @@ type CuringConfig struct {
 	// raises its temperature from temperature_c).
 	TemperatureMode string `toml:"temperature_mode"`
 	Schedule        string `toml:"schedule"`
-	// HeatCapacityJPerGK is the paste's heat capacity per gram of paste for
-	// the adiabatic mode; 0 computes it from cement 0.75 and water 4.18.
-	HeatCapacityJPerGK float64 `toml:"heat_capacity_j_per_g_k"`
+	// HeatCapacityJPerKPerGCement is, for the adiabatic mode, the heat
+	// capacity of everything that warms with the paste, per gram of cement:
+	// 0 means the paste alone (0.75 + w/c × 4.18 J/K per g of cement); for
+	// a concrete add the aggregate's share (its mass per gram of cement ×
+	// about 0.8 J/(g·K)).
+	HeatCapacityJPerKPerGCement float64 `toml:"heat_capacity_j_per_k_per_g_cement"`
 }
 
 // OutputConfig says what to record.

@@ -140,14 +140,14 @@ func engineSettings(cfg *Config) (voxel.EngineSettings, error) {
 		}
 		th.Steps = steps
 	case kinetics.Adiabatic:
-		cp := cfg.Curing.HeatCapacityJPerGK
+		cp := cfg.Curing.HeatCapacityJPerKPerGCement
 		if cp == 0 {
-			cp = (cementHeatCapacity + cfg.Mix.WC*waterHeatCapacity) / (1 + cfg.Mix.WC)
+			cp = cementHeatCapacity + cfg.Mix.WC*waterHeatCapacity
 		}
-		if !(cp >= 0.2 && cp <= 5) {
-			return voxel.EngineSettings{}, r.errAt("curing.heat_capacity_j_per_g_k", "%g J/(g·K): must be between 0.2 and 5", cp)
+		if !(cp >= 0.5 && cp <= 100) {
+			return voxel.EngineSettings{}, r.errAt("curing.heat_capacity_j_per_k_per_g_cement", "%g J/K per g of cement: must be between 0.5 and 100", cp)
 		}
-		th.HeatCapacityJPerGK = cp * (1 + cfg.Mix.WC) // per gram of cement
+		th.HeatCapacityJPerGK = cp
 	default:
 		return voxel.EngineSettings{}, r.errAt("curing.temperature_mode", "%q: must be \"isothermal\", \"schedule\" or \"adiabatic\"", th.Mode)
 	}
