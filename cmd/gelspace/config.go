@@ -117,6 +117,9 @@ type OutputConfig struct {
 	// empty means the last one only. Diffusivity = false turns it off.
 	DiffusivityTimesH []float64 `toml:"diffusivity_times_h"`
 	Diffusivity       bool      `toml:"diffusivity"`
+	// DiffusivityTol is the relative residual at which the solve stops;
+	// the D/D0 it reports is accurate to about its square.
+	DiffusivityTol float64 `toml:"diffusivity_tol"`
 }
 
 // Defaults returns the values of keys a config leaves out. The cement,
@@ -127,7 +130,7 @@ func Defaults() *Config {
 		Box:      BoxConfig{Voxels: 100, VoxelUM: 1},
 		Pack:     PackConfig{CorrelationUM: 3},
 		Curing:   CuringConfig{Mode: "saturated", TemperatureC: 20, UntilH: 672},
-		Output:   OutputConfig{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}, SampleEveryH: 0.25, Diffusivity: true},
+		Output:   OutputConfig{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}, SampleEveryH: 0.25, Diffusivity: true, DiffusivityTol: 1e-5},
 		Kinetics: defaultKinetics(),
 	}
 }
@@ -296,6 +299,9 @@ func (c *Config) Validate() error {
 	}
 	if !(c.Output.SampleEveryH >= 0.01 && c.Output.SampleEveryH <= 24) {
 		return r.errAt("output.sample_every_h", "%g h: must be between 0.01 and 24", c.Output.SampleEveryH)
+	}
+	if !(c.Output.DiffusivityTol >= 1e-10 && c.Output.DiffusivityTol <= 1e-2) {
+		return r.errAt("output.diffusivity_tol", "%g: must be between 1e-10 and 1e-2", c.Output.DiffusivityTol)
 	}
 	for i, t := range c.Output.DiffusivityTimesH {
 		found := t == c.Curing.UntilH

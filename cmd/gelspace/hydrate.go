@@ -245,7 +245,7 @@ func (h *hydration) step() (bool, error) {
 		r[colPoresFrac], r[colPoresSpan] = p.Fraction, float64(p.SpanAxes)
 		if h.diffT[t] {
 			g := h.e.Grid()
-			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers})
+			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol})
 			if err != nil {
 				return false, fmt.Errorf("diffusivity at %g h: %w", t, err)
 			}
