@@ -274,22 +274,24 @@ func (m *fitModel) curve(x Multipliers) ([]float64, error) {
 //	f = sqrt(e_Q² + w_F·e_F² + w_T·e_T²)
 //	e_Q  RMS over the grid of (Q_model − Q_meas) / Q_meas,end (cumulative)
 //	e_F  RMS over the grid intervals of ln(F_model + F₀) − ln(F_meas + F₀),
-//	     F the flow from grid differences of Q smoothed by (1, 2, 1)/4,
+//	     F the mean flow over ±fitFlowWindow grid intervals,
 //	     F₀ = fitFlowFloor × the largest measured F: the log weighs the
 //	     tail flow (a hundredth of the peak) as much as the peak
 //	e_T  RMS of ln t_model − ln t_meas, t the time at which Q reaches
-//	     10, 25, 50 and 75 % of Q_meas,end
+//	     2, 5, 10, 25, 50 and 75 % of Q_meas,end (2 and 5 %: the end of
+//	     the dormant period)
 const (
 	fitGridStartH = 0.5
 	fitPerDecade  = 20
 	fitFlowFloor  = 0.003
+	fitFlowWindow = 2
 	fitWeightFlow = 1.0
 	fitWeightTime = 1.0
 )
 
 // fitFractions are the fractions of the final measured value whose times
 // enter e_T.
-var fitFractions = [4]float64{0.10, 0.25, 0.50, 0.75}
+var fitFractions = [6]float64{0.02, 0.05, 0.10, 0.25, 0.50, 0.75}
 
 // fitTarget is a measured curve prepared for the misfit.
 type fitTarget struct {
@@ -374,23 +376,16 @@ func (ft *fitTarget) onGrid(v, dst []float64) []float64 {
 	return dst
 }
 
-// flow is the smoothed rate of q per grid interval, per h, into dst.
+// flow is the mean rate of q, per h, over a window of fitFlowWindow grid
+// intervals on either side of each grid interval (a tenth of a decade each
+// way, fewer at the ends), into dst: the difference of q across the window
+// over its length, which evens out the voxel-by-voxel noise of a small box.
 func (ft *fitTarget) flow(q, dst []float64) []float64 {
 	n := len(q) - 1
-	raw := make([]float64, n)
-	for i := range n {
-		raw[i] = (q[i+1] - q[i]) / (ft.gridH[i+1] - ft.gridH[i])
-	}
 	dst = dst[:0]
 	for i := range n {
-		s, w := 2*raw[i], 2.0
-		if i > 0 {
-			s, w = s+raw[i-1], w+1
-		}
-		if i < n-1 {
-			s, w = s+raw[i+1], w+1
-		}
-		dst = append(dst, s/w)
+		a, b := max(0, i-fitFlowWindow), min(n, i+1+fitFlowWindow)
+		dst = append(dst, (q[b]-q[a])/(ft.gridH[b]-ft.gridH[a]))
 	}
 	return dst
 }

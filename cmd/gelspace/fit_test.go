@@ -58,18 +58,37 @@ func TestFitBadCurves(t *testing.T) {
 // fitTruth are the multipliers the synthetic curves were made with.
 var fitTruth = Multipliers{1.25, 0.8, 1.2}
 
+// fitSyntheticTimes are the rows of a synthetic curve: half-hourly to
+// 72 h, then every 2 h to untilH (a calorimeter left running for weeks,
+// so that the through-product tail is in the curve).
+func fitSyntheticTimes(untilH float64) []float64 {
+	var times []float64
+	for h := 0.5; h <= min(72, untilH); h += 0.5 {
+		times = append(times, h)
+	}
+	for h := 74.0; h <= untilH; h += 2 {
+		times = append(times, h)
+	}
+	return times
+}
+
+// fitRecoveryTol is the relative error allowed on a recovered multiplier.
+const fitRecoveryTol = 0.10
+
 // The fit recovers the multipliers of a curve the model itself produced
-// on the same boxes. The dissolution multiplier, which sets the pace of
-// the whole curve, comes back within 10 %; the nucleation and
-// through-product multipliers trade off against each other and move the
-// curve by little more than the noise of a small box, so for them only
-// the curve is required to come close.
+// on the same boxes (30³ voxels, two seeds, to 14 d). Dissolution (the
+// height and width of the main peak) and through-product (the tail) come
+// back within 10 %. Nucleation does not: in the present engine halving or
+// doubling it moves the curve by about as much as the change of random
+// path that any change of the multipliers brings on a box this small, so
+// it is only required to stay inside the search box, and fit.json flags it
+// when the misfit hardly moves with it.
 func TestFitRecoversSynthetic(t *testing.T) {
-	cfg, err := LoadConfig("", []string{"box.voxels=30", "curing.until_h=48", "output.times_h=[]"})
+	cfg, err := LoadConfig("", []string{"box.voxels=30", "curing.until_h=336", "output.times_h=[]"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	times := []float64{1, 2, 3, 4, 5, 6, 7, 8, 10, 12, 16, 20, 24, 30, 36, 42, 48}
+	times := fitSyntheticTimes(336)
 	m, err := newFitModel(cfg, 2, times, false)
 	if err != nil {
 		t.Fatal(err)
@@ -82,19 +101,95 @@ func TestFitRecoversSynthetic(t *testing.T) {
 	if f := newFitTarget(c).misfit(ref); f != 0 {
 		t.Fatalf("misfit of the model against itself = %g, want 0 (the model is deterministic)", f)
 	}
-	best, f, f0, evals, status, err := fitKinetics(m, newFitTarget(c), Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.3, Tol: 1e-4})
+	best, f, f0, evals, status, err := fitKinetics(m, newFitTarget(c), Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.4, Tol: 1e-4, Staged: true})
 	if err != nil {
 		t.Fatal(err)
 	}
 	t.Logf("truth %.3f, fitted %.3f, misfit %.4g from %.4g, %d evaluations, %s", fitTruth, best, f, f0, evals, status)
-	if r := best[0] / fitTruth[0]; math.Abs(r-1) > 0.10 {
-		t.Errorf("dissolution_scale %.3f, want %.3f within 10 %%", best[0], fitTruth[0])
+	for _, i := range []int{0, 2} {
+		if r := best[i] / fitTruth[i]; math.Abs(r-1) > fitRecoveryTol {
+			t.Errorf("%s %.3f, want %.3f within 10 %%", multiplierKeys[i], best[i], fitTruth[i])
+		}
 	}
-	if !(f < 0.5*f0) || f > 0.03 {
-		t.Errorf("misfit %.4g from %.4g: want below half the start and ≤ 0.03", f, f0)
+	if !(f < 0.5*f0) {
+		t.Errorf("misfit %.4g from %.4g: want below half the start", f, f0)
 	}
 	if evals > 120 {
 		t.Errorf("%d evaluations, limit 120", evals)
+	}
+	// A held multiplier stays exactly where it was put; the others are
+	// still fitted (dissolution within 10 % with the other two at truth).
+	fix := fitSettings{MaxEvals: 40, Simplex: 0.4, Tol: 1e-4, Staged: true, Fixed: [3]bool{false, true, true}}
+	got, _, _, _, _, err := fitKinetics(m, newFitTarget(c), Multipliers{1, fitTruth[1], fitTruth[2]}, fix)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got[1] != fitTruth[1] || got[2] != fitTruth[2] || math.Abs(got[0]/fitTruth[0]-1) > fitRecoveryTol {
+		t.Errorf("nucleation and through-product held: fitted %.4f, want [%.3f %g %g]", got, fitTruth[0], fitTruth[1], fitTruth[2])
+	}
+}
+
+// The comparison grid is log-spaced at fitPerDecade points per decade from
+// 0.5 h to the last row; the feature times and flows of a curve whose heat
+// grows linearly in time are exact.
+func TestFitTarget(t *testing.T) {
+	var times, heat []float64
+	for h := 0.25; h <= 100; h += 0.25 {
+		times = append(times, h)
+		heat = append(heat, 2*h) // 2 J/g per h
+	}
+	ft := newFitTarget(&measuredCurve{TimeH: times, Value: heat, Kind: kindHeat})
+	g := ft.gridH
+	if g[0] != 0.5 || g[len(g)-1] != 100 {
+		t.Errorf("grid from %g to %g h, want 0.5 to 100", g[0], g[len(g)-1])
+	}
+	// log10(100/0.5) = 2.3 decades: 46 steps, the last one shortened.
+	if n := len(g); n < 46 || n > 48 {
+		t.Errorf("%d grid points, want 47±1", n)
+	}
+	for i := 1; i < len(g)-1; i++ {
+		if r := math.Log10(g[i]/g[i-1]) * fitPerDecade; math.Abs(r-1) > 1e-9 {
+			t.Fatalf("grid step %d: %g of a 1/%d decade", i, r, fitPerDecade)
+		}
+	}
+	for i, p := range fitFractions {
+		if want := math.Log(p * 100); math.Abs(ft.lt[i]-want) > 1e-9 {
+			t.Errorf("time at %g of the final heat: ln t = %g, want %g", p, ft.lt[i], want)
+		}
+	}
+	if p := ft.misfitParts(heat); p != (misfitParts{}) {
+		t.Errorf("misfit against itself %+v, want 0", p)
+	}
+	// Twice the heat: the flow is doubled (ln 2 per interval wherever the
+	// floor is negligible), the heat off by the measured value, and the
+	// features reached at half the time.
+	twice := make([]float64, len(heat))
+	for i, v := range heat {
+		twice[i] = 2 * v
+	}
+	p := ft.misfitParts(twice)
+	if math.Abs(p.Time-math.Log(2)) > 0.02 || math.Abs(p.Flow-math.Log(2)) > 0.01 || p.Heat < 0.3 {
+		t.Errorf("twice the heat: %+v, want time and flow terms ≈ ln 2 = 0.693", p)
+	}
+}
+
+func TestParseFixes(t *testing.T) {
+	fixed, sets, err := parseFixes([]string{"through_product_scale=1.5", "kinetics.nucleation_scale = 0.7"})
+	if err != nil || fixed != [3]bool{false, true, true} || len(sets) != 2 || sets[0] != "kinetics.through_product_scale=1.5" || sets[1] != "kinetics.nucleation_scale=0.7" {
+		t.Errorf("fixed %v, sets %q, %v", fixed, sets, err)
+	}
+	for _, c := range []struct{ arg, want string }{
+		{"silicate_saturation=1", "KEY one of dissolution_scale"},
+		{"dissolution_scale", "want KEY=VALUE"},
+		{"dissolution_scale=0", "must be a number > 0 and ≤ 1000"},
+		{"dissolution_scale=x", "must be a number"},
+	} {
+		if _, _, err := parseFixes([]string{c.arg}); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("--fix %s: %v, want %q", c.arg, err, c.want)
+		}
+	}
+	if _, _, err := parseFixes([]string{"nucleation_scale=1", "nucleation_scale=2"}); err == nil || !strings.Contains(err.Error(), "twice") {
+		t.Errorf("fixed twice: %v", err)
 	}
 }
 
@@ -120,6 +215,24 @@ func TestFitCommand(t *testing.T) {
 				t.Errorf("%s: %s missing", name, f)
 			}
 		}
+	}
+	// --fix holds a multiplier exactly and says so.
+	out := filepath.Join(t.TempDir(), "fit")
+	mainOK(t, "fit", filepath.Join("..", "..", "testdata", "fit", "rw-g-heat-20c.csv"), "--size", "24", "--seeds", "1", "--max-evals", "12",
+		"--fix", "through_product_scale=1.2", "--fix", "nucleation_scale=0.8", "--out", out, "-q")
+	var r FitResult
+	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(out, "fit.json"))), &r); err != nil {
+		t.Fatal(err)
+	}
+	if r.Fitted["through_product_scale"] != 1.2 || r.Fitted["nucleation_scale"] != 0.8 || len(r.Fixed) != 2 || r.Start["dissolution_scale"] != 1 {
+		t.Errorf("--fix: fitted %v, fixed %v, start %v", r.Fitted, r.Fixed, r.Start)
+	}
+	if frag := readFile(t, filepath.Join(out, "fit.toml")); !strings.Contains(frag, "nucleation_scale = 0.8  # held (--fix)") {
+		t.Errorf("fit.toml does not mark the held multiplier:\n%s", frag)
+	}
+	var o, e bytes.Buffer
+	if code := Main([]string{"fit", "x.csv", "--fix", "alpha=1"}, &o, &e); code != 2 || !strings.Contains(e.String(), "--fix") {
+		t.Errorf("bad --fix: exit %d, %s", code, e.String())
 	}
 }
 
@@ -192,52 +305,62 @@ func TestFitTestdata(t *testing.T) {
 	}
 }
 
+// fitLongTargets are the synthetic truths of the long test.
+var fitLongTargets = []Multipliers{{1, 1, 1}, {0.8, 1.2, 1}, {1.2, 0.8, 1.25}, {1, 1.5, 0.8}}
+
 // With the command's defaults (40³ voxels, seeds 7–9, 120 evaluations)
-// the fit of a heat curve that the model makes here on those same boxes
-// with fitTruth (half-hourly to 72 h, as in testdata/fit) recovers the
-// dissolution multiplier within 10 % and the curve to a relative RMS of
-// 2 %. The nucleation and through-product multipliers trade off along a
-// ridge (faster nucleation with a slower through-product stage gives much
-// the same heat curve), so one heat curve does not pin them separately;
-// fit.json's sensitivity shows it.
+// gelspace fit of a 28-day heat curve that the model makes on those same
+// boxes recovers the dissolution and through-product multipliers within
+// 10 % for every target of fitLongTargets. The nucleation multiplier is
+// logged, not checked: it moves this engine's curve by little more than
+// the change of random path does (see TestFitRecoversSynthetic).
 func TestFitCommandRecoversLong(t *testing.T) {
 	if os.Getenv("GELSPACE_LONG") == "" {
-		t.Skip("GELSPACE_LONG not set: a fit with the default settings takes a minute or two")
+		t.Skip("GELSPACE_LONG not set: four fits with the default settings take several minutes")
 	}
-	cfg, err := LoadConfig("", []string{"box.voxels=40", "curing.until_h=72", "output.times_h=[]"})
+	cfg, err := LoadConfig("", []string{"box.voxels=40", "curing.until_h=672", "output.times_h=[]"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	var times []float64
-	for h := 0.5; h <= 72; h += 0.5 {
-		times = append(times, h)
-	}
+	times := fitSyntheticTimes(672)
 	m, err := newFitModel(cfg, 3, times, false)
 	if err != nil {
 		t.Fatal(err)
 	}
-	heat, err := m.curve(fitTruth)
-	if err != nil {
-		t.Fatal(err)
-	}
-	var b bytes.Buffer
-	b.WriteString("time_h,heat_j_per_g\n")
-	for i, h := range times {
-		fmt.Fprintf(&b, "%g,%.6f\n", h, heat[i])
-	}
-	curve := filepath.Join(t.TempDir(), "heat.csv")
-	os.WriteFile(curve, b.Bytes(), 0o644)
-	out := filepath.Join(t.TempDir(), "fit")
-	mainOK(t, "fit", curve, "--out", out, "-q")
-	var r FitResult
-	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(out, "fit.json"))), &r); err != nil {
-		t.Fatal(err)
-	}
-	t.Logf("fitted %v, misfit %.4g, determined %v", r.Fitted, r.Misfit, r.Determined)
-	if got := r.Fitted[multiplierKeys[0]]; math.Abs(got/fitTruth[0]-1) > 0.10 {
-		t.Errorf("%s = %.3f, want %.3f within 10 %%", multiplierKeys[0], got, fitTruth[0])
-	}
-	if r.Misfit > 0.02 {
-		t.Errorf("misfit %.4g, want ≤ 0.02", r.Misfit)
+	for _, truth := range fitLongTargets {
+		heat, err := m.curve(truth)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var b bytes.Buffer
+		b.WriteString("time_h,heat_j_per_g\n")
+		for i, h := range times {
+			fmt.Fprintf(&b, "%g,%.6f\n", h, heat[i])
+		}
+		curve := filepath.Join(t.TempDir(), "heat.csv")
+		os.WriteFile(curve, b.Bytes(), 0o644)
+		out := filepath.Join(t.TempDir(), "fit")
+		args := []string{"fit", curve, "--out", out, "-q"}
+		if truth == (Multipliers{1, 1, 1}) { // start away from the truth
+			args = append(args, "--set", "kinetics.dissolution_scale=1.3", "--set", "kinetics.nucleation_scale=0.7", "--set", "kinetics.through_product_scale=1.3")
+		}
+		mainOK(t, args...)
+		var r FitResult
+		if err := json.Unmarshal([]byte(readFile(t, filepath.Join(out, "fit.json"))), &r); err != nil {
+			t.Fatal(err)
+		}
+		var ratio [3]float64
+		for i, k := range multiplierKeys {
+			ratio[i] = r.Fitted[k] / truth[i]
+		}
+		t.Logf("truth %v: fitted/truth %.3f, misfit %.4g from %.4g (%v), determined %v, %.0f s", truth, ratio, r.Misfit, r.MisfitStart, r.MisfitParts, r.Determined, r.WallS)
+		for _, i := range []int{0, 2} {
+			if math.Abs(ratio[i]-1) > fitRecoveryTol {
+				t.Errorf("truth %v: %s = %.3f, want %.3f within 10 %%", truth, multiplierKeys[i], r.Fitted[multiplierKeys[i]], truth[i])
+			}
+		}
+		if !(r.Misfit < 0.5*r.MisfitStart) {
+			t.Errorf("truth %v: misfit %.4g from %.4g, want below half the start", truth, r.Misfit, r.MisfitStart)
+		}
 	}
 }
