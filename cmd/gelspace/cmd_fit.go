@@ -107,7 +107,7 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 		return err
 	}
 	start := time.Now()
-	res, err := fitCurve(cfg, curve, o.seeds, fitSettings{MaxEvals: o.maxEvals, Simplex: 0.4, Tol: 1e-4, Fixed: fixed, Staged: true})
+	res, err := fitCurve(cfg, curve, o.seeds, fitSettings{MaxEvals: o.maxEvals, Simplex: 0.4, Tol: 1e-4, Fixed: fixed, Staged: true, Prior: fitPrior})
 	if err != nil {
 		return err
 	}
@@ -178,7 +178,7 @@ func fitCurve(cfg *Config, curve *measuredCurve, seeds int, s fitSettings) (*Fit
 		MisfitStart: f0, Misfit: f, Evaluations: evals, Status: status, TimeH: curve.TimeH, MeasuredValue: curve.Value}
 	parts := ft.misfitParts(model)
 	r.MisfitParts = map[string]float64{"heat": parts.Heat, "log_flow": parts.Flow, "log_time": parts.Time}
-	r.GridPoints = len(ft.gridH)
+	r.GridPoints, r.PriorWeight = len(ft.gridH), s.Prior
 	r.Fixed = []string{}
 	sens, err := sensitivity(m, ft, best)
 	if err != nil {

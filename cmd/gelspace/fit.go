@@ -464,11 +464,13 @@ type FitResult struct {
 	Misfit      float64            `json:"misfit"`
 	MisfitParts map[string]float64 `json:"misfit_parts"`
 	GridPoints  int                `json:"grid_points"`
-	RMS         float64            `json:"rms"`
-	RMSUnit     string             `json:"rms_unit"`
-	Evaluations int                `json:"evaluations"`
-	Status      string             `json:"status"`
-	WallS       float64            `json:"wall_s"`
+	// PriorWeight is fitSettings.Prior of the search.
+	PriorWeight float64 `json:"prior_weight"`
+	RMS         float64 `json:"rms"`
+	RMSUnit     string  `json:"rms_unit"`
+	Evaluations int     `json:"evaluations"`
+	Status      string  `json:"status"`
+	WallS       float64 `json:"wall_s"`
 	// TimeH, MeasuredValue and FittedValue are the curves compared.
 	// Sensitivity is, per multiplier, the misfit with that multiplier
 	// alone set to 0.8 and 1.25 times its fitted value; Determined says
@@ -494,6 +496,24 @@ type fitSettings struct {
 	// time of the peak), then dissolution (its height), then
 	// through-product (the tail) — and all free ones together from there.
 	Staged bool
+	// Prior is the weight of the pull towards the start values: the search
+	// minimises sqrt(f² + Prior·Σ ln²(x/x_start)), so that a multiplier the
+	// curve hardly moves stays near the config's value instead of
+	// wandering along a ridge with another one (0: none).
+	Prior float64
+}
+
+// fitPrior is gelspace fit's fitSettings.Prior: a factor of 2 away from
+// the start costs what a misfit of 0.07 does.
+const fitPrior = 0.01
+
+// objective is the searched function at log-multipliers lx with misfit f.
+func (s fitSettings) objective(f float64, lx []float64) float64 {
+	var p float64
+	for _, v := range lx {
+		p += v * v
+	}
+	return math.Sqrt(f*f + s.Prior*p)
 }
 
 // fitKinetics minimises the misfit over the free multipliers in log space
@@ -519,7 +539,7 @@ func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (
 			}
 			return math.Inf(1)
 		}
-		return ft.misfit(v)
+		return s.objective(ft.misfit(v), lx)
 	}
 	cur := []float64{0, 0, 0}
 	fstart = full(cur)
@@ -598,7 +618,11 @@ func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (
 	for i := range best {
 		best[i] = start[i] * math.Exp(cur[i])
 	}
-	return best, fcur, fstart, evals, status, nil
+	v, err := m.curve(best)
+	if err != nil {
+		return best, 0, 0, evals, "", err
+	}
+	return best, ft.misfit(v), fstart, evals, status, nil
 }
 
 // sensitivity returns the misfit with each multiplier alone set to 0.8

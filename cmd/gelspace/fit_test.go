@@ -101,7 +101,7 @@ func TestFitRecoversSynthetic(t *testing.T) {
 	if f := newFitTarget(c).misfit(ref); f != 0 {
 		t.Fatalf("misfit of the model against itself = %g, want 0 (the model is deterministic)", f)
 	}
-	best, f, f0, evals, status, err := fitKinetics(m, newFitTarget(c), Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.4, Tol: 1e-4, Staged: true})
+	best, f, f0, evals, status, err := fitKinetics(m, newFitTarget(c), Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.4, Tol: 1e-4, Staged: true, Prior: fitPrior})
 	if err != nil {
 		t.Fatal(err)
 	}
