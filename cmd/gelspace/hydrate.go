@@ -189,7 +189,7 @@ func isDepercolated(c percolation.Connectivity) bool { return c.SpanAxes == 0 }
 // refine finds by bisection, between the last output age (h.prev) and
 // hi, the first age at which test holds, to within 1 % of hi or 0.05 h.
 // Replays from a saved state follow the run exactly.
-func (h *hydration) refine(hi float64, test func(s, p percolation.Connectivity) bool) (*transition, error) {
+func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*transition, error) {
 	lo := h.st.PrevH
 	base := h.prev
 	var best *transition
@@ -199,9 +199,7 @@ func (h *hydration) refine(hi float64, test func(s, p percolation.Connectivity) 
 		if err := e.AdvanceTo(mid); err != nil {
 			return nil, err
 		}
-		g := e.Grid()
-		s, p := h.lab.Solids(h.box, g.Phase, g.Particle), h.lab.Pores(h.box, g.Phase)
-		if test(s, p) {
+		if test(e.Grid()) {
 			hi = mid
 			best = &transition{TimeH: mid, Alpha: e.Alpha(), Porosity: capPor(e)}
 		} else {
@@ -270,7 +268,7 @@ func (h *hydration) step() (bool, error) {
 // t, then keeps the state needed for the next refinement.
 func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 	if h.st.Set == nil && isSet(s) {
-		tr, err := h.refine(t, func(s, _ percolation.Connectivity) bool { return isSet(s) })
+		tr, err := h.refine(t, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
 		if err != nil {
 			return err
 		}
@@ -280,7 +278,7 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		h.st.Set = tr
 	}
 	if h.st.Deperc == nil && isDepercolated(p) {
-		tr, err := h.refine(t, func(_, p percolation.Connectivity) bool { return isDepercolated(p) })
+		tr, err := h.refine(t, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
 		if err != nil {
 			return err
 		}
