@@ -8,13 +8,18 @@ package main
 // engine's heat (or α) at the measured times, averaged over a few boxes
 // packed once each with fixed seeds; every evaluation hydrates clones of
 // the same packed grids, so the objective is a deterministic function of
-// the three multipliers and is smooth enough for a simplex search. The
-// misfit (fitTarget) weighs the features of the curve that the three
+// the three multipliers. It is rough all the same: beyond a tiny step a
+// change of multipliers changes the random path of the events, which on a
+// 40³ box moves the curve about as much as halving or doubling the
+// nucleation multiplier does, so nucleation is poorly determined by a
+// calorimetry curve and fit.json's sensitivity says so. The misfit (fitTarget) weighs the features of the curve that the three
 // multipliers move apart: cumulative heat, log heat flow and the log times
 // at which the heat reaches fractions of its final value, on a log-spaced
 // time grid. Nelder–Mead (gonum/optimize) searches in log-multiplier space
 // from the config's values, one multiplier at a time first, then all the
-// free ones together.
+// free ones together, with a weak pull towards the start (fitPrior) that
+// keeps a poorly determined multiplier from wandering along a ridge with
+// another one. --fix holds multipliers the user knows.
 
 import (
 	"encoding/csv"
