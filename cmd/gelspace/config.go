@@ -173,15 +173,25 @@ func LoadRaw(path string) (*Raw, error) {
 	if path == "" {
 		return ParseRaw(DefaultConfigName, ".", configs.Default())
 	}
+	data, err := readInput(path, "config")
+	if err != nil {
+		return nil, err
+	}
+	return ParseRaw(path, filepath.Dir(path), data)
+}
+
+// readInput reads an input file; a failure is an InputError that says
+// what the file was for ("config", "sweep file").
+func readInput(path, what string) ([]byte, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
 		msg := err.Error()
 		if errors.Is(err, fs.ErrNotExist) {
 			msg = "no such file"
 		}
-		return nil, &InputError{File: path, Msg: "cannot read config: " + msg}
+		return nil, &InputError{File: path, Msg: "cannot read " + what + ": " + msg}
 	}
-	return ParseRaw(path, filepath.Dir(path), data)
+	return data, nil
 }
 
 // Allowed ranges, checked by Validate.

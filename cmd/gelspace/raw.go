@@ -88,6 +88,14 @@ func (r *Raw) Set(kv string) error {
 	} else {
 		val = strings.TrimSpace(v)
 	}
+	return r.put(k, val, kv, "--set")
+}
+
+// put stores val at the dotted key, creating intermediate tables, and
+// records kv as the override's text for messages; file names the source
+// of the override in errors.
+func (r *Raw) put(key string, val any, kv, file string) error {
+	path := strings.Split(key, ".")
 	m := r.Tree
 	for i, p := range path[:len(path)-1] {
 		next, exists := m[p]
@@ -99,12 +107,12 @@ func (r *Raw) Set(kv string) error {
 		}
 		nm, isMap := next.(map[string]any)
 		if !isMap {
-			return &InputError{File: "--set", Key: k, Msg: fmt.Sprintf("%s is a value, not a table", strings.Join(path[:i+1], "."))}
+			return &InputError{File: file, Key: key, Msg: fmt.Sprintf("%s is a value, not a table", strings.Join(path[:i+1], "."))}
 		}
 		m = nm
 	}
 	m[path[len(path)-1]] = val
-	r.sets[k] = kv
+	r.sets[key] = kv
 	return nil
 }
 

@@ -16,7 +16,6 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
-	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -112,13 +111,9 @@ func (s *sweepSpec) valueIndices(p int) []int {
 // LoadSweep reads and checks a sweep file. Errors are *InputError naming
 // the file, the line and the key.
 func LoadSweep(path string) (*sweepSpec, error) {
-	data, err := os.ReadFile(path)
+	data, err := readInput(path, "sweep file")
 	if err != nil {
-		msg := err.Error()
-		if errors.Is(err, fs.ErrNotExist) {
-			msg = "no such file"
-		}
-		return nil, &InputError{File: path, Msg: "cannot read sweep file: " + msg}
+		return nil, err
 	}
 	return ParseSweep(path, data)
 }
@@ -413,25 +408,7 @@ func deepCopy(v any) any {
 // setValue puts v at dotted key in r's tree, as --set does, and records it
 // so that messages about the key point at the sweep (see pointError).
 func setValue(r *Raw, key string, v any) error {
-	path := strings.Split(key, ".")
-	m := r.Tree
-	for i, p := range path[:len(path)-1] {
-		next, exists := m[p]
-		if !exists {
-			nm := map[string]any{}
-			m[p] = nm
-			m = nm
-			continue
-		}
-		nm, ok := next.(map[string]any)
-		if !ok {
-			return &InputError{File: r.Name, Key: key, Msg: fmt.Sprintf("%s is a value, not a table", strings.Join(path[:i+1], "."))}
-		}
-		m = nm
-	}
-	m[path[len(path)-1]] = deepCopy(v)
-	r.sets[key] = key + "=" + inlineTOML(v)
-	return nil
+	return r.put(key, deepCopy(v), key+"="+inlineTOML(v), r.Name)
 }
 
 // Points resolves every point of the sweep against the base config (with
