@@ -101,22 +101,7 @@ func TestDiffusivityLayers(t *testing.T) {
 func TestDiffusivityMaxwell(t *testing.T) {
 	const L = 48
 	box := PeriodicBox(L, L, L)
-	phase := make([]uint8, box.Len())
-	const r = 8.5
-	c := float64(L-1) / 2
-	solid := 0
-	for z := range L {
-		for y := range L {
-			for x := range L {
-				dx, dy, dz := float64(x)-c, float64(y)-c, float64(z)-c
-				if dx*dx+dy*dy+dz*dz <= r*r {
-					phase[box.Index(x, y, z)] = kinetics.Inert
-					solid++
-				}
-			}
-		}
-	}
-	f := float64(solid) / float64(box.Len())
+	phase, f := centredSphere(box, 8.5, kinetics.Inert)
 	want := (1 - f) / (1 + f/2)
 	res, err := Diffusivity(box, phase, DiffusivityOptions{})
 	if err != nil {
@@ -411,4 +396,24 @@ func TestDiffusivityReuseAllocs(t *testing.T) {
 	if n := testing.AllocsPerRun(3, func() { s.Diffusivity(box, phase, opt) }); n != 0 {
 		t.Errorf("%v allocations per reused solve, want 0", n)
 	}
+}
+
+// centredSphere returns a box of pore with one digitised sphere of radius r
+// voxels and phase id at its centre, and the sphere's voxel fraction.
+func centredSphere(box Box, r float64, id uint8) ([]uint8, float64) {
+	phase := make([]uint8, box.Len())
+	cx, cy, cz := float64(box.NX-1)/2, float64(box.NY-1)/2, float64(box.NZ-1)/2
+	solid := 0
+	for z := range box.NZ {
+		for y := range box.NY {
+			for x := range box.NX {
+				dx, dy, dz := float64(x)-cx, float64(y)-cy, float64(z)-cz
+				if dx*dx+dy*dy+dz*dz <= r*r {
+					phase[box.Index(x, y, z)] = id
+					solid++
+				}
+			}
+		}
+	}
+	return phase, float64(solid) / float64(box.Len())
 }

@@ -62,21 +62,7 @@ func TestLongMaxwell64(t *testing.T) {
 	const L, r = 64, 14.5
 	for _, periodic := range []bool{true, false} {
 		box := Box{NX: L, NY: L, NZ: L, Periodic: [3]bool{periodic, periodic, periodic}}
-		phase := make([]uint8, box.Len())
-		c := float64(L-1) / 2
-		solid := 0
-		for z := range L {
-			for y := range L {
-				for x := range L {
-					dx, dy, dz := float64(x)-c, float64(y)-c, float64(z)-c
-					if dx*dx+dy*dy+dz*dz <= r*r {
-						phase[box.Index(x, y, z)] = kinetics.C3S
-						solid++
-					}
-				}
-			}
-		}
-		f := float64(solid) / float64(box.Len())
+		phase, f := centredSphere(box, r, kinetics.C3S)
 		want := (1 - f) / (1 + f/2)
 		res, err := Diffusivity(box, phase, DiffusivityOptions{})
 		if err != nil {

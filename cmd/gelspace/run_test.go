@@ -14,25 +14,9 @@ import (
 	"gelspace/render"
 )
 
-// runConfig is a small, fast run: 30³ voxels, two days.
-const runConfig = `seed = 3
-[cement]
-name = "test cement"
-phases = { c3s = 58.0, c2s = 17.0, c3a = 7.5, c4af = 10.5, gypsum = 5.0, calcite = 2.0 }
-[psd]
-rosin_rammler = { x_um = 8.0, n = 1.1 }
-[mix]
-w_c = 0.45
-[box]
-voxels = 30
-voxel_um = 1.0
-[curing]
-mode = "saturated"
-temperature_c = 20.0
-until_h = 48.0
-[output]
-times_h = [1, 2, 4, 8, 12, 24]
-`
+// runConfig is a small, fast run: goodConfig (30³ voxels, two days) with
+// more output ages.
+var runConfig = strings.Replace(goodConfig, "times_h = [1, 2, 24]", "times_h = [1, 2, 4, 8, 12, 24]", 1)
 
 func writeConfig(t *testing.T, text string) string {
 	t.Helper()
