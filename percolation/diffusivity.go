@@ -101,18 +101,19 @@ type Solver struct {
 	r           []float64
 	p           []float64
 	q           []float64
-	part        [][3]float64 // per z plane partial sums, added in plane order
-	dg          []float64    // diagonal of A, for the coarse levels
-	z           []float64    // multigrid: preconditioned residual
-	fine        mgLevel      // multigrid: the fine level, on the arrays above
-	mg          []gLevel     // multigrid coarse levels
-	agg, uf     []int32      // multigrid: aggregate of each fine voxel; union–find scratch
-	mgColour    int          // colour of the fine half sweep
-	mgFirst     bool         // the fine half sweep starts from z = 0
-	mgReverse   bool         // the fine half sweep runs in reverse order (improper colouring)
-	resColour   int          // colour of the fine residual, or −1 for all voxels
-	mvIn, mvOut []float64    // vectors of matvec
-	jacobiOnly  bool         // tests: Jacobi preconditioner alone
+	part        [][3]float64  // per z plane partial sums, added in plane order
+	dg          []float64     // diagonal of A, for the coarse levels
+	z           []float64     // multigrid: preconditioned residual
+	fine        mgLevel       // multigrid: the fine level, on the arrays above
+	mg          []gLevel      // multigrid coarse levels
+	agg, uf     []int32       // multigrid: aggregate of each fine voxel; union–find scratch
+	col         [2]colourList // multigrid: active fine voxels of each colour (proper colouring only)
+	mgColour    int           // colour of the fine half sweep
+	mgFirst     bool          // the fine half sweep starts from z = 0
+	mgReverse   bool          // the fine half sweep runs in reverse order (improper colouring)
+	resColour   int           // colour of the fine residual, or −1 for all voxels
+	mvIn, mvOut []float64     // vectors of matvec
+	jacobiOnly  bool          // tests: Jacobi preconditioner alone
 
 	// set per pass
 	op          int // passSetup, passMatvec, passUpdate, passDirection

@@ -24,7 +24,9 @@ package percolation
 // and then the red ones, so that the sequence of half sweeps is a
 // palindrome. After the black half sweep the residual vanishes on black, so
 // only the red residual is formed and restricted, and only red voxels take
-// the prolongated correction (the black ones are overwritten next). On an
+// the prolongated correction (the black ones are overwritten next). These
+// passes walk compacted lists of the active voxels of each colour
+// (colour.go) rather than the full rows. On an
 // odd periodic edge two voxels of one colour meet across the face; the half
 // sweeps then run on one worker over the whole level, in raster order
 // before the coarse correction and in reverse raster order (the adjoint)
@@ -570,6 +572,9 @@ func (s *Solver) mgBuild() {
 	s.mg = s.mg[:1]
 	c := &s.mg[0]
 	c.assemble(s.fineAggregates(c), s)
+	if s.fine.coloured() {
+		s.buildColourLists(s.agg)
+	}
 	for {
 		c := &s.mg[len(s.mg)-1]
 		if c.n <= mgCoarsestLen || c.dims == [3]int{1, 1, 1} {
@@ -694,11 +699,23 @@ func (s *Solver) mgPass(op, z0, z1 int) {
 	lo, hi := z0*plane, z1*plane
 	switch op {
 	case passMGSweep:
+		if !s.mgFirst {
+			s.fine.sweepList(&s.col[s.mgColour], s.z, s.r, z0, z1, s.part)
+			return
+		}
 		s.fine.sweep(s.z, s.r, s.mgColour, s.mgFirst, z0, z1, s.part)
 	case passMGResidual:
+		if s.resColour >= 0 {
+			s.fine.restrictList(&s.col[s.resColour], s.z, s.r, s.mg[0].f, z0, z1)
+			return
+		}
 		s.fine.restrictResidual(s.z, s.r, s.agg, s.mg[0].f, s.resColour, z0, z1)
 	case passMGProlong: // z += P (coarse x), on red only when the black half sweep that follows overwrites black
 		cx := s.mg[0].x
+		if s.resColour >= 0 {
+			s.fine.prolongList(&s.col[0], s.z, cx, z0, z1)
+			return
+		}
 		nx, ny := s.box.NX, s.box.NY
 		for z := z0; z < z1; z++ {
 			for y := range ny {
