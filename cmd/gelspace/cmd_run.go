@@ -192,14 +192,14 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 }
 
 // Memory a run takes per voxel, as resident memory: measured on the
-// default 100³ run (113 MB without D/D0, 303 MB with it), which includes the
+// default 100³ run (113 MB without D/D0, 357 MB with it), which includes the
 // engine's lattice and classes (about 11 bytes, BenchmarkHydrate100) twice
 // (a copy is kept for refining the set point and depercolation), the
 // labelling and image buffers, the diffusivity solver's vectors and
 // multigrid levels, and the garbage collector's headroom.
 const (
 	runBytesPerVoxel  = 120
-	diffBytesPerVoxel = 200
+	diffBytesPerVoxel = 250
 )
 
 // checkRunMemory refuses, before anything is allocated, a box whose run
