@@ -301,47 +301,40 @@ const (
 
 // parallel runs pass op over contiguous ranges of z planes, one range per
 // worker, and waits for all.
-func (s *Solver) parallel(op int) {
-	s.op = op
-	nz, w := s.box.NZ, s.workers
-	if w <= 1 {
-		s.pass(0, nz)
-		return
-	}
-	var wg sync.WaitGroup
-	for k := 1; k < w; k++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			s.pass(k*nz/w, (k+1)*nz/w)
-		}()
-	}
-	s.pass(0, nz/w)
-	wg.Wait()
-}
+func (s *Solver) parallel(op int) { s.parallelRanges(op, false) }
 
 // parallelEven is parallel with ranges that start at even planes (the
 // last range takes what is left).
-func (s *Solver) parallelEven(op int) {
+func (s *Solver) parallelEven(op int) { s.parallelRanges(op, true) }
+
+// parallelRanges splits the z planes among the workers, at even planes
+// when even is set, runs pass op on each range and waits for all.
+func (s *Solver) parallelRanges(op int, even bool) {
 	s.op = op
 	nz, w := s.box.NZ, s.workers
 	if w <= 1 {
 		s.pass(0, nz)
 		return
 	}
+	bound := func(k int) int {
+		if k >= w {
+			return nz
+		}
+		b := k * nz / w
+		if even {
+			b &^= 1
+		}
+		return b
+	}
 	var wg sync.WaitGroup
 	for k := 1; k < w; k++ {
-		lo, hi := (k*nz/w)&^1, ((k+1)*nz/w)&^1
-		if k == w-1 {
-			hi = nz
-		}
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			s.pass(lo, hi)
+			s.pass(bound(k), bound(k+1))
 		}()
 	}
-	s.pass(0, (nz/w)&^1)
+	s.pass(0, bound(1))
 	wg.Wait()
 }
 
