@@ -16,6 +16,8 @@ type InputError struct {
 	Msg  string
 }
 
+// Error is the one-line message: FILE:LINE: KEY: MSG, leaving out what
+// is not known.
 func (e *InputError) Error() string {
 	if e.File == "" && e.Line == 0 && e.Key == "" {
 		return e.Msg

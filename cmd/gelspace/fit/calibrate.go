@@ -20,7 +20,7 @@ import (
 	"gelspace/render"
 )
 
-// fitCurve packs the boxes, runs the search from the config's multipliers
+// Calibrate packs the boxes, runs the search from the config's multipliers
 // and returns fit.json's content.
 func Calibrate(cfg *configs.Config, curve *Measured, seeds int, s Settings) (*Result, error) {
 	m, err := NewModel(cfg, seeds, curve.TimeH, curve.Kind == KindAlpha)
@@ -76,7 +76,7 @@ func Calibrate(cfg *configs.Config, curve *Measured, seeds int, s Settings) (*Re
 	return r, nil
 }
 
-// writeFitOutputs writes fit.toml, fit.json and fit.png into dir.
+// WriteOutputs writes fit.toml, fit.json and fit.png into dir.
 func WriteOutputs(dir string, r *Result) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err

@@ -1,26 +1,5 @@
 package fit
 
-// Calibration of the kinetics to a measured isothermal calorimetry curve.
-//
-// The measured curve is cumulative heat (J/g of cement), heat flow (mW/g,
-// integrated here by the trapezoid rule into heat released since the first
-// row) or degree of hydration, against time_h. The model curve is the
-// engine's heat (or α) at the measured times, averaged over a few boxes
-// packed once each with fixed seeds; every evaluation hydrates clones of
-// the same packed grids, so the objective is a deterministic function of
-// the three multipliers. It is rough all the same: beyond a tiny step a
-// change of multipliers changes the random path of the events, which on a
-// 40³ box moves the curve about as much as halving or doubling the
-// nucleation multiplier does, so nucleation is poorly determined by a
-// calorimetry curve and fit.json's sensitivity says so. The misfit (fitTarget) weighs the features of the curve that the three
-// multipliers move apart: cumulative heat, log heat flow and the log times
-// at which the heat reaches fractions of its final value, on a log-spaced
-// time grid. Nelder–Mead (gonum/optimize) searches in log-multiplier space
-// from the config's values, one multiplier at a time first, then all the
-// free ones together, with a weak pull towards the start (fitPrior) that
-// keeps a poorly determined multiplier from wandering along a ridge with
-// another one. --fix holds multipliers the user knows.
-
 import (
 	"encoding/csv"
 	"errors"
@@ -51,12 +30,12 @@ const (
 // need more than three numbers.
 const minMeasuredRows = 5
 
-// measuredCurve is a calorimetry curve ready to compare.
+// Measured is a calorimetry curve ready to compare.
 type Measured struct {
 	File  string
 	Kind  string    // kindHeat, kindFlow or kindAlpha, as read
 	TimeH []float64 // increasing, > 0
-	// Value is cumulative heat J/g (kindHeat; kindFlow integrated from the
+	// Value is cumulative heat J/g (KindHeat; KindFlow integrated from the
 	// first row, so its first value is 0) or α.
 	Value []float64
 	// FromFirst: compare heat released since the first row (flow data,
@@ -64,8 +43,8 @@ type Measured struct {
 	FromFirst bool
 }
 
-// readMeasured reads a measured curve (CSV with a header row; lines
-// starting with # are comments). Errors are *InputError naming the file
+// ReadMeasured reads a measured curve (CSV with a header row; lines
+// starting with # are comments). Errors are *configs.InputError naming the file
 // and the line.
 func ReadMeasured(path string) (*Measured, error) {
 	f, err := os.Open(path)
@@ -80,6 +59,8 @@ func ReadMeasured(path string) (*Measured, error) {
 	return ParseMeasured(path, f)
 }
 
+// ParseMeasured reads a measured curve from r, as ReadMeasured does;
+// name is the file name for messages.
 func ParseMeasured(name string, r io.Reader) (*Measured, error) {
 	bad := func(line int, format string, args ...any) error {
 		return &configs.InputError{File: name, Line: line, Msg: fmt.Sprintf(format, args...)}
@@ -179,13 +160,14 @@ func ParseMeasured(name string, r io.Reader) (*Measured, error) {
 // kinetics.nucleation_scale and kinetics.through_product_scale.
 type Multipliers [3]float64
 
+// MultiplierKeys are the [kinetics] keys of the Multipliers, in order.
 var MultiplierKeys = [3]string{"dissolution_scale", "nucleation_scale", "through_product_scale"}
 
 // Limits of the search: every multiplier within a factor of fitRange of
 // the config's value.
 const fitRange = 30.0
 
-// fitModel hydrates fixed packed boxes with trial multipliers.
+// Model hydrates fixed packed boxes with trial multipliers.
 type Model struct {
 	cfg   *configs.Config
 	grids []*voxel.Grid // packed once per seed; cloned per evaluation
@@ -194,7 +176,7 @@ type Model struct {
 	alpha bool // compare α, not heat
 }
 
-// newFitModel packs one box per seed (cfg.Seed, cfg.Seed+1, …) for the
+// NewModel packs one box per seed (cfg.Seed, cfg.Seed+1, …) for the
 // times of the measured curve.
 func NewModel(cfg *configs.Config, seeds int, times []float64, alpha bool) (*Model, error) {
 	m := &Model{cfg: cfg, times: times, alpha: alpha}
@@ -447,7 +429,7 @@ func (ft *fitTarget) misfitParts(model []float64) misfitParts {
 // misfit is misfitParts(model).Total().
 func (ft *fitTarget) misfit(model []float64) float64 { return ft.misfitParts(model).Total() }
 
-// FitResult is fit.json.
+// Result is fit.json.
 type Result struct {
 	Version  string  `json:"version"`
 	Caution  string  `json:"caution"`
@@ -471,7 +453,7 @@ type Result struct {
 	Misfit      float64            `json:"misfit"`
 	MisfitParts map[string]float64 `json:"misfit_parts"`
 	GridPoints  int                `json:"grid_points"`
-	// PriorWeight is fitSettings.Prior of the search.
+	// PriorWeight is Settings.Prior of the search.
 	PriorWeight float64 `json:"prior_weight"`
 	RMS         float64 `json:"rms"`
 	RMSUnit     string  `json:"rms_unit"`
@@ -492,7 +474,7 @@ type Result struct {
 	FittedValue   []float64             `json:"fitted_value"`
 }
 
-// fitSettings steer fitKinetics.
+// Settings steer fitKinetics.
 type Settings struct {
 	MaxEvals int     // function evaluations at most (each hydrates every seed)
 	Simplex  float64 // initial simplex size in log space
@@ -510,7 +492,7 @@ type Settings struct {
 	Prior float64
 }
 
-// fitPrior is gelspace fit's fitSettings.Prior: a factor of 2 away from
+// DefaultPrior is gelspace fit's Settings.Prior: a factor of 2 away from
 // the start costs what a misfit of 0.07 does.
 const DefaultPrior = 0.01
 

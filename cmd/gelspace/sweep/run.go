@@ -1,21 +1,5 @@
 package sweep
 
-// Running a sweep: the sweep folder's layout, the completion markers, the
-// worker pool, and the plan for a cluster's scheduler.
-//
-// A sweep folder holds sweep.json (the plan: axes and points), points/
-// with one folder per point and replicate (config.toml, the run's outputs,
-// and done.json, the completion marker, written last), sweep.log (one line
-// per point started, finished or failed), the summaries and plots/.
-//
-// done.json holds the SHA-256 of the point's config.toml (and the
-// version): a point whose marker matches its present config is complete
-// and is skipped on resume; any other point runs again from its start.
-// Every output of a run is written through a temporary name and renamed,
-// and the marker is renamed into place after all of them, so a sweep killed
-// at any moment leaves complete points that are skipped and incomplete
-// ones that rerun.
-
 import (
 	"bytes"
 	"encoding/json"

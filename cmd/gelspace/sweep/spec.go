@@ -1,15 +1,5 @@
 package sweep
 
-// Sweep files and the points they span.
-//
-// A sweep file names a base run config, replicates (seeds per point) and
-// axes: any config key with a list of values or a range { from, to, step }
-// (inclusive). The axes of [axes] cross; the axes of [zip] vary together
-// (equal lengths) and count as one dimension. The points are numbered in
-// row-major order of the dimensions as they appear in the file (the first
-// dimension varies slowest), and each point has one folder per replicate,
-// points/pNNNN_rR, with seed = base seed + R.
-
 import (
 	"bytes"
 	"crypto/sha256"

@@ -1,13 +1,5 @@
 package sweep
 
-// Sweep summaries: summary.csv (one row per point and replicate),
-// summary_stats.csv (per point: count, mean, standard deviation and 95 %
-// confidence interval over the replicates) and plots/ (each output against
-// the first swept axis, one line per value of the other axes, error bars =
-// the 95 % interval). They are built from the point folders alone, in
-// point order, so gelspace sweep and gelspace sweep collect write the same
-// files whatever the number of jobs or the order the points finished in.
-
 import (
 	"bytes"
 	"encoding/json"
