@@ -121,3 +121,46 @@ func FuzzConfig(f *testing.F) {
 		}
 	})
 }
+
+// An InputError is one line FILE:LINE: KEY: MSG, leaving out what is not
+// known; with nothing but a message it is the message.
+func TestInputErrorText(t *testing.T) {
+	for _, c := range []struct {
+		e    InputError
+		want string
+	}{
+		{InputError{File: "a.toml", Line: 3, Key: "mix.w_c", Msg: "bad"}, "a.toml:3: mix.w_c: bad"},
+		{InputError{File: "a.toml", Msg: "bad"}, "a.toml: bad"},
+		{InputError{File: "--set", Key: "x", Msg: "bad"}, "--set: x: bad"},
+		{InputError{Msg: "sweep: bad"}, "sweep: bad"},
+	} {
+		if got := c.e.Error(); got != c.want {
+			t.Errorf("%+v: %q, want %q", c.e, got, c.want)
+		}
+	}
+}
+
+// A config built in Go, not read from a file, still gets located errors:
+// they name its Source.
+func TestValidateGoConfig(t *testing.T) {
+	cfg := Defaults()
+	cfg.Source = "mine"
+	err := cfg.Validate()
+	if err == nil || err.Error() != "mine: cement: missing: give cement.phases or cement.oxides (mass percent)" {
+		t.Errorf("Validate of a config without a cement: %v", err)
+	}
+	if cfg.Raw() != nil {
+		t.Error("a config built in Go has a Raw tree")
+	}
+	r, err := LoadRaw("")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := r.Clone()
+	if err := c.Set("mix.w_c=0.3"); err != nil {
+		t.Fatal(err)
+	}
+	if r.Tree["mix"].(map[string]any)["w_c"] == 0.3 {
+		t.Error("Clone shares its tree with the original")
+	}
+}
