@@ -1,6 +1,3 @@
-// Package configs holds gelspace's example configs for the invented
-// Redhaven Works demo scenario; they are embedded in the binary, and
-// default.toml is the config used when none is given.
 package configs
 
 import "embed"

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"gelspace/cmd/gelspace/run"
 	"gelspace/kinetics"
 	"gelspace/voxel"
 )
@@ -96,11 +97,11 @@ func TestAnalyzeOwnVolume(t *testing.T) {
 	if code := Main([]string{"analyze", filepath.Join(out, "final.vti"), "--json"}, &buf, io.Discard); code != 0 {
 		t.Fatalf("analyze exit %d", code)
 	}
-	var rep AnalysisReport
+	var rep run.Analysis
 	if err := json.Unmarshal(buf.Bytes(), &rep); err != nil {
 		t.Fatal(err)
 	}
-	var sum RunSummary
+	var sum run.Summary
 	data, _ := os.ReadFile(filepath.Join(out, "summary.json"))
 	json.Unmarshal(data, &sum)
 	if math.Abs(rep.Porosity-sum.Final.CapillaryPorosity) > 1e-9 || sum.Final.SolidsConnected == nil ||

@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"sort"
 	"strconv"
@@ -12,6 +11,8 @@ import (
 
 	"github.com/spf13/pflag"
 
+	"gelspace/cmd/gelspace/run"
+	"gelspace/configs"
 	"gelspace/kinetics"
 	"gelspace/percolation"
 	"gelspace/render"
@@ -55,23 +56,6 @@ are taken as bonded. --periodic defaults to true for gelspace volumes
 			return runAnalyze(opts.(*analyzeOpts), fs, stdout)
 		},
 	}
-}
-
-// AnalysisReport is the result of gelspace analyze (its --json keys are the
-// DESIGN.md contract).
-type AnalysisReport struct {
-	Volume                  string             `json:"volume"`
-	Dims                    [3]int             `json:"dims"`
-	VoxelUM                 float64            `json:"voxel_um"`
-	Periodic                bool               `json:"periodic"`
-	Porosity                float64            `json:"porosity"`
-	PoresConnectedFraction  float64            `json:"pores_connected_fraction"`
-	PoresSpanAxes           []string           `json:"pores_span_axes"`
-	SolidsConnectedFraction float64            `json:"solids_connected_fraction"`
-	SolidsSpanAxes          []string           `json:"solids_span_axes"`
-	RelDiffusivity          [3]float64         `json:"rel_diffusivity"`
-	FormationFactor         [3]float64         `json:"formation_factor"` // -1: no conducting path
-	PhaseFractions          map[string]float64 `json:"phase_fractions"`
 }
 
 // parseLabelMap parses LABEL=CLASS pairs into a label → phase table.
@@ -123,7 +107,7 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	}
 	g, err := voxel.ReadVolume(path)
 	if err != nil {
-		return &InputError{File: path, Msg: err.Error()}
+		return &configs.InputError{File: path, Msg: err.Error()}
 	}
 	hasParticles := false
 	for _, p := range g.Particle {
@@ -152,12 +136,12 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 		}
 		if len(unmapped) > 0 {
 			sort.Ints(unmapped)
-			return &InputError{File: path, Key: "--map", Msg: fmt.Sprintf("labels %v are in the volume but not in --map", unmapped)}
+			return &configs.InputError{File: path, Key: "--map", Msg: fmt.Sprintf("labels %v are in the volume but not in --map", unmapped)}
 		}
 	} else {
 		for _, l := range g.Phase {
 			if kinetics.Lookup(l) == nil {
-				return &InputError{File: path, Msg: fmt.Sprintf("label %d is not a gelspace phase id: give --map LABEL=CLASS for an imported image", l)}
+				return &configs.InputError{File: path, Msg: fmt.Sprintf("label %d is not a gelspace phase id: give --map LABEL=CLASS for an imported image", l)}
 			}
 		}
 	}
@@ -180,13 +164,13 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 		return &usageError{fmt.Sprintf("analyze: --periodic %q: must be true, false or auto", o.periodic)}
 	}
 	box := percolation.Box{NX: g.NX, NY: g.NY, NZ: g.NZ, Periodic: [3]bool{periodic, periodic, periodic}}
-	rep, err := analyzeGrid(box, g, o.tol)
+	rep, err := run.Analyze(box, g, o.tol)
 	if err != nil {
 		return err
 	}
 	rep.Volume = path
 	if o.json {
-		return writeJSON(stdout, rep)
+		return run.WriteJSON(stdout, rep)
 	}
 	if o.quiet {
 		return nil
@@ -194,49 +178,7 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	return printAnalysis(stdout, rep)
 }
 
-func axesNames(span [3]bool) []string {
-	out := []string{}
-	for a, s := range span {
-		if s {
-			out = append(out, string("xyz"[a]))
-		}
-	}
-	return out
-}
-
-// analyzeGrid measures a volume.
-func analyzeGrid(box percolation.Box, g *voxel.Grid, tol float64) (*AnalysisReport, error) {
-	pores := percolation.Pores(box, g.Phase)
-	solids := percolation.Solids(box, g.Phase, g.Particle)
-	d, err := percolation.Diffusivity(box, g.Phase, percolation.DiffusivityOptions{Tol: tol})
-	if err != nil {
-		return nil, fmt.Errorf("analyze: diffusivity: %w", err)
-	}
-	rep := &AnalysisReport{Dims: [3]int{g.NX, g.NY, g.NZ}, VoxelUM: g.VoxelUM, Periodic: box.Periodic[0],
-		Porosity:                float64(pores.Voxels) / float64(g.Len()),
-		PoresConnectedFraction:  pores.Fraction,
-		PoresSpanAxes:           axesNames(pores.Span),
-		SolidsConnectedFraction: solids.Fraction,
-		SolidsSpanAxes:          axesNames(solids.Span),
-		RelDiffusivity:          d.Rel,
-		PhaseFractions:          map[string]float64{},
-	}
-	for a := range 3 {
-		rep.FormationFactor[a] = d.Formation[a]
-		if math.IsInf(d.Formation[a], 0) {
-			rep.FormationFactor[a] = -1
-		}
-	}
-	cnt := g.Count()
-	for id, n := range cnt {
-		if n > 0 {
-			rep.PhaseFractions[render.PhaseLabel(uint8(id))] = float64(n) / float64(g.Len())
-		}
-	}
-	return rep, nil
-}
-
-func printAnalysis(w io.Writer, r *AnalysisReport) error {
+func printAnalysis(w io.Writer, r *run.Analysis) error {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
 	fmt.Fprintf(tw, "volume\t%s (%d×%d×%d voxels of %g µm, periodic %v)\n", r.Volume, r.Dims[0], r.Dims[1], r.Dims[2], r.VoxelUM, r.Periodic)
 	fmt.Fprintf(tw, "capillary porosity\t%.4f\n", r.Porosity)
@@ -294,7 +236,7 @@ func renderCommand() *command {
 			path := fs.Arg(0)
 			g, err := voxel.ReadVolume(path)
 			if err != nil {
-				return &InputError{File: path, Msg: err.Error()}
+				return &configs.InputError{File: path, Msg: err.Error()}
 			}
 			if o.mapping != "" {
 				lm, err := parseLabelMap(o.mapping)

@@ -1,12 +1,8 @@
 package main
 
 import (
-	"bytes"
 	"fmt"
-	"image/color"
 	"io"
-	"math"
-	"os"
 	"path/filepath"
 	"slices"
 	"strconv"
@@ -14,12 +10,9 @@ import (
 	"time"
 
 	"github.com/spf13/pflag"
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/vg"
-	"gonum.org/v1/plot/vg/draw"
 
-	"gelspace/render"
+	"gelspace/cmd/gelspace/fit"
+	"gelspace/configs"
 )
 
 type fitOpts struct {
@@ -82,7 +75,7 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	curve, err := readMeasured(fs.Arg(0))
+	curve, err := fit.ReadMeasured(fs.Arg(0))
 	if err != nil {
 		return err
 	}
@@ -102,25 +95,25 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	last := curve.TimeH[len(curve.TimeH)-1]
 	sets = append(sets, fmt.Sprintf("curing.until_h=%g", last), "output.times_h=[]")
 	sets = append(sets, fixSets...)
-	cfg, err := LoadConfig(o.config, sets)
+	cfg, err := configs.Load(o.config, sets)
 	if err != nil {
 		return err
 	}
 	start := time.Now()
-	res, err := fitCurve(cfg, curve, o.seeds, fitSettings{MaxEvals: o.maxEvals, Simplex: 0.4, Tol: 1e-4, Fixed: fixed, Staged: true, Prior: fitPrior})
+	res, err := fit.Calibrate(cfg, curve, o.seeds, fit.Settings{MaxEvals: o.maxEvals, Simplex: 0.4, Tol: 1e-4, Fixed: fixed, Staged: true, Prior: fit.DefaultPrior})
 	if err != nil {
 		return err
 	}
 	res.WallS = time.Since(start).Seconds()
-	if err := writeFitOutputs(o.out, res); err != nil {
+	if err := fit.WriteOutputs(o.out, res); err != nil {
 		return err
 	}
 	if !o.quiet {
 		fmt.Fprintf(stdout, "fitted %s (%d rows) in %d evaluations, %.0f s: dissolution_scale %.3g, nucleation_scale %.3g, through_product_scale %.3g; misfit %.3g (from %.3g) → %s\n",
-			curve.File, len(curve.TimeH), res.Evaluations, res.WallS, res.Fitted[multiplierKeys[0]], res.Fitted[multiplierKeys[1]], res.Fitted[multiplierKeys[2]],
+			curve.File, len(curve.TimeH), res.Evaluations, res.WallS, res.Fitted[fit.MultiplierKeys[0]], res.Fitted[fit.MultiplierKeys[1]], res.Fitted[fit.MultiplierKeys[2]],
 			res.Misfit, res.MisfitStart, filepath.Join(o.out, "fit.toml"))
 		var weak []string
-		for _, k := range multiplierKeys {
+		for _, k := range fit.MultiplierKeys {
 			if !res.Determined[k] && !slices.Contains(res.Fixed, k) {
 				weak = append(weak, k)
 			}
@@ -138,9 +131,9 @@ func parseFixes(fix []string) (fixed [3]bool, sets []string, err error) {
 	for _, f := range fix {
 		key, val, ok := strings.Cut(f, "=")
 		key = strings.TrimPrefix(strings.TrimSpace(key), "kinetics.")
-		i := slices.Index(multiplierKeys[:], key)
+		i := slices.Index(fit.MultiplierKeys[:], key)
 		if !ok || i < 0 {
-			return fixed, nil, &usageError{fmt.Sprintf("fit: --fix %q: want KEY=VALUE with KEY one of %s", f, strings.Join(multiplierKeys[:], ", "))}
+			return fixed, nil, &usageError{fmt.Sprintf("fit: --fix %q: want KEY=VALUE with KEY one of %s", f, strings.Join(fit.MultiplierKeys[:], ", "))}
 		}
 		v, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
 		if err != nil || !(v > 0 && v <= 1000) {
@@ -153,125 +146,4 @@ func parseFixes(fix []string) (fixed [3]bool, sets []string, err error) {
 		sets = append(sets, fmt.Sprintf("kinetics.%s=%g", key, v))
 	}
 	return fixed, sets, nil
-}
-
-// fitCurve packs the boxes, runs the search from the config's multipliers
-// and returns fit.json's content.
-func fitCurve(cfg *Config, curve *measuredCurve, seeds int, s fitSettings) (*FitResult, error) {
-	m, err := newFitModel(cfg, seeds, curve.TimeH, curve.Kind == kindAlpha)
-	if err != nil {
-		return nil, err
-	}
-	ft := newFitTarget(curve)
-	k := cfg.Kinetics
-	x0 := Multipliers{k.DissolutionScale, k.NucleationScale, k.ThroughProductScale}
-	best, f, f0, evals, status, err := fitKinetics(m, ft, x0, s)
-	if err != nil {
-		return nil, err
-	}
-	model, err := m.curve(best)
-	if err != nil {
-		return nil, err
-	}
-	r := &FitResult{Version: version, Caution: render.Caution, Measured: curve.File, Kind: curve.Kind, Config: cfg.Source,
-		Rows: len(curve.TimeH), Box: cfg.Box.Voxels, Seeds: m.seeds, Start: map[string]float64{}, Fitted: map[string]float64{},
-		MisfitStart: f0, Misfit: f, Evaluations: evals, Status: status, TimeH: curve.TimeH, MeasuredValue: curve.Value}
-	parts := ft.misfitParts(model)
-	r.MisfitParts = map[string]float64{"heat": parts.Heat, "log_flow": parts.Flow, "log_time": parts.Time}
-	r.GridPoints, r.PriorWeight = len(ft.gridH), s.Prior
-	r.Fixed = []string{}
-	sens, err := sensitivity(m, ft, best)
-	if err != nil {
-		return nil, err
-	}
-	r.Sensitivity, r.Determined = map[string][2]float64{}, map[string]bool{}
-	for i, key := range multiplierKeys {
-		r.Start[key], r.Fitted[key] = x0[i], best[i]
-		if s.Fixed[i] {
-			r.Fixed = append(r.Fixed, key)
-		}
-		r.Sensitivity[key] = sens[i]
-		r.Determined[key] = sens[i][0] >= 2*f && sens[i][1] >= 2*f
-	}
-	off := 0.0
-	if curve.FromFirst {
-		off = model[0]
-	}
-	var ss float64
-	for i := range model {
-		r.FittedValue = append(r.FittedValue, model[i]-off)
-		d := model[i] - off - curve.Value[i]
-		ss += d * d
-	}
-	r.RMS = math.Sqrt(ss / float64(len(model)))
-	r.RMSUnit = "J/g"
-	if curve.Kind == kindAlpha {
-		r.RMSUnit = "alpha"
-	}
-	return r, nil
-}
-
-// writeFitOutputs writes fit.toml, fit.json and fit.png into dir.
-func writeFitOutputs(dir string, r *FitResult) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
-	}
-	var t bytes.Buffer
-	fmt.Fprintf(&t, "# Kinetic multipliers fitted by gelspace %s to %s (%s, %d rows)\n", r.Version, r.Measured, r.Kind, r.Rows)
-	fmt.Fprintf(&t, "# with %s on %d³ voxels, seeds %v: relative RMS misfit %.4g (%.4g %s), %d evaluations.\n", r.Config, r.Box, r.Seeds, r.Misfit, r.RMS, r.RMSUnit, r.Evaluations)
-	t.WriteString("# Paste into the run config (replacing any [kinetics] scales there).\n[kinetics]\n")
-	for _, k := range multiplierKeys {
-		note := ""
-		if slices.Contains(r.Fixed, k) {
-			note = "  # held (--fix)"
-		} else if !r.Determined[k] {
-			note = "  # poorly determined by this curve (fit.json: sensitivity)"
-		}
-		fmt.Fprintf(&t, "%s = %.4g%s\n", k, r.Fitted[k], note)
-	}
-	if err := WriteFileAtomic(filepath.Join(dir, "fit.toml"), func(w io.Writer) error { _, err := w.Write(t.Bytes()); return err }); err != nil {
-		return err
-	}
-	if err := WriteFileAtomic(filepath.Join(dir, "fit.json"), func(w io.Writer) error { return writeJSON(w, r) }); err != nil {
-		return err
-	}
-	p := plot.New()
-	p.Title.Text = "measured and fitted"
-	p.X.Label.Text = "time, h"
-	switch r.Kind {
-	case kindAlpha:
-		p.Y.Label.Text = "degree of hydration"
-	case kindFlow:
-		p.Y.Label.Text = fmt.Sprintf("heat since %g h, J/g", r.TimeH[0])
-	default:
-		p.Y.Label.Text = "heat, J/g"
-	}
-	p.Add(plotter.NewGrid())
-	meas, fitted := make(plotter.XYs, len(r.TimeH)), make(plotter.XYs, len(r.TimeH))
-	for i, t := range r.TimeH {
-		meas[i] = plotter.XY{X: t, Y: r.MeasuredValue[i]}
-		fitted[i] = plotter.XY{X: t, Y: r.FittedValue[i]}
-	}
-	sc, err := plotter.NewScatter(meas)
-	if err != nil {
-		return err
-	}
-	sc.Shape = draw.CircleGlyph{}
-	sc.Radius = vg.Points(2)
-	sc.Color = color.Black
-	ln, err := plotter.NewLine(fitted)
-	if err != nil {
-		return err
-	}
-	ln.Color = color.RGBA{R: 200, G: 40, B: 40, A: 255}
-	ln.Width = vg.Points(1.5)
-	p.Add(sc, ln)
-	p.Legend.Add("measured", sc)
-	p.Legend.Add(fmt.Sprintf("model (misfit %.3g)", r.Misfit), ln)
-	p.Legend.Top, p.Legend.Left = true, true
-	wt, err := p.WriterTo(16*vg.Centimeter, 11*vg.Centimeter, "png")
-	if err != nil {
-		return err
-	}
-	return WriteFileAtomic(filepath.Join(dir, "fit.png"), func(w io.Writer) error { _, err := wt.WriteTo(w); return err })
 }

@@ -1,9 +1,14 @@
 package main
 
 import (
+	"fmt"
 	"io"
+	"text/tabwriter"
 
 	"github.com/spf13/pflag"
+
+	"gelspace/cmd/gelspace/run"
+	"gelspace/kinetics"
 )
 
 type mixOpts struct {
@@ -32,13 +37,13 @@ func mixCommand() *command {
 			if err != nil {
 				return err
 			}
-			m, err := Resolve(cfg)
+			m, err := run.Resolve(cfg)
 			if err != nil {
 				return err
 			}
 			rep := m.Report()
 			if o.json {
-				return writeJSON(stdout, rep)
+				return run.WriteJSON(stdout, rep)
 			}
 			if !o.quiet {
 				printMix(stdout, rep)
@@ -46,4 +51,34 @@ func mixCommand() *command {
 			return nil
 		},
 	}
+}
+
+// printMix writes the human form of the report.
+func printMix(w io.Writer, rep run.MixReport) {
+	fmt.Fprintf(w, "config   %s\n", rep.Source)
+	if rep.Cement != "" {
+		fmt.Fprintf(w, "cement   %s\n", rep.Cement)
+	}
+	fmt.Fprintf(w, "w/c      %g\ndensity  %.3f g/cm³ (powder)\nsolids   %.4f initial solid volume fraction\n\n", rep.WC, rep.DensityGPerCM, rep.SolidFraction)
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "phase\trole\tρ g/cm³\tmass %\tvolume %\tpaste vol %\t")
+	for _, p := range rep.Phases {
+		fmt.Fprintf(tw, "%s\t%s\t%.2f\t%.2f\t%.2f\t%.2f\t\n", p.Name, p.Role, p.DensityGPerCM3, p.MassPercent, p.VolumePercent, p.PastePercent)
+	}
+	fmt.Fprintf(tw, "water\tpore\t%.3f\t\t\t%.2f\t\n", kinetics.WaterDensity, 100*(1-rep.SolidFraction))
+	tw.Flush()
+	if b := rep.Bogue; b != nil {
+		branch := "A/F ≥ 0.64"
+		if b.SolidSolution {
+			branch = "A/F < 0.64, ferrite solid solution reported as C4AF"
+		}
+		fmt.Fprintf(w, "\nBogue (ASTM C150 Annex A1, %s), mass %% of cement: C3S %.1f  C2S %.1f  C3A %.1f  C4AF %.1f\n", branch, b.C3S, b.C2S, b.C3A, b.C4AF)
+	}
+	p := rep.PSD
+	fmt.Fprintf(w, "\nPSD      %s\n", p.Description)
+	fmt.Fprintf(w, "         d10 %.2f µm, d50 %.2f µm, d90 %.2f µm\n", p.D10UM, p.D50UM, p.D90UM)
+	fmt.Fprintf(w, "surface  %.0f m²/kg as smooth spheres, %.0f m²/kg digitised (voxel faces)\n", p.SurfaceSpheresM2PerKg, p.SurfaceVoxelM2PerKg)
+	fmt.Fprintf(w, "box      %d³ voxels of %g µm; particles 1 to %d voxels (≤ %g µm, half the edge)\n", rep.Box.Voxels, rep.Box.VoxelUM, p.MaxDiameterVoxels, p.MaxDiameterUM)
+	fmt.Fprintf(w, "fines    %.2f %% finer than one voxel, %s\n", 100*p.FinerThanVoxel, p.FineRepresentation)
+	fmt.Fprintf(w, "coarse   %.2f %% coarser than the largest particle, left out (the rest scaled up)\n", 100*p.Truncated)
 }

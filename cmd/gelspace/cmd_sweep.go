@@ -11,6 +11,8 @@ import (
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/pflag"
+
+	"gelspace/cmd/gelspace/sweep"
 )
 
 type sweepOpts struct {
@@ -90,7 +92,7 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 	if mode == "plan" && o.out == "" {
 		return &usageError{"sweep plan: give the sweep folder with --out DIR"}
 	}
-	spec, err := LoadSweep(args[0])
+	spec, err := sweep.Load(args[0])
 	if err != nil {
 		return err
 	}
@@ -108,17 +110,17 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
 		return &usageError{fmt.Sprintf("sweep: --out %s exists and is not a folder", o.out)}
 	}
-	pl := makePlan(spec, pts, o.images)
-	if err := writePlan(o.out, pl, pts); err != nil {
+	pl := sweep.NewPlan(spec, pts, o.images)
+	if err := sweep.WritePlan(o.out, pl, pts); err != nil {
 		return err
 	}
-	if err := writeSchedulerFiles(o.out, pl); err != nil {
+	if err := sweep.WriteSchedulerFiles(o.out, pl); err != nil {
 		return err
 	}
 	if mode == "plan" {
 		if !o.quiet {
 			fmt.Fprintf(stdout, "planned %d runs (%d points × %d replicates) in %s: sbatch %s, or cd %s && parallel < %s; then gelspace sweep collect %s\n",
-				len(pts), spec.NumPoints(), spec.Replicates, o.out, filepath.Join(o.out, slurmScriptFile), o.out, commandsFile, o.out)
+				len(pts), spec.NumPoints(), spec.Replicates, o.out, filepath.Join(o.out, sweep.SlurmScriptFile), o.out, sweep.CommandsFile, o.out)
 		}
 		return nil
 	}
@@ -127,7 +129,22 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 		bar = newSweepBar(len(pts), stderr)
 	}
 	start := time.Now()
-	st, err := runSweep(o.out, pl, o.jobs, bar)
+	var progress func(done, total int, left time.Duration)
+	if bar != nil {
+		progress = func(done, total int, left time.Duration) {
+			if left < 0 {
+				bar.Describe("sweep (time left after the first runs)")
+				if done > 0 {
+					bar.Add(done)
+				}
+				bar.RenderBlank()
+				return
+			}
+			bar.Describe(fmt.Sprintf("sweep, about %s left", left.Round(time.Second)))
+			bar.Add(1)
+		}
+	}
+	st, err := sweep.Run(o.out, pl, o.jobs, progress)
 	if err != nil {
 		return err
 	}
@@ -135,11 +152,11 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 		bar.Finish()
 		fmt.Fprintln(stderr)
 	}
-	rows, err := collectRows(o.out, pl)
+	rows, err := sweep.Collect(o.out, pl)
 	if err != nil {
 		return err
 	}
-	if err := writeSweepSummaries(o.out, pl, rows); err != nil {
+	if err := sweep.WriteSummaries(o.out, pl, rows); err != nil {
 		return err
 	}
 	if !o.quiet {
@@ -148,29 +165,29 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 	}
 	if len(st.Failed) > 0 {
 		f := st.Failed[0]
-		return fmt.Errorf("sweep: %d of %d runs failed (first, %s: %v); each failed folder has %s; rerun to retry them", len(st.Failed), st.Total, f.Name, f.Err, pointErrorFile)
+		return fmt.Errorf("sweep: %d of %d runs failed (first, %s: %v); each failed folder has %s; rerun to retry them", len(st.Failed), st.Total, f.Name, f.Err, sweep.PointErrorFile)
 	}
 	return nil
 }
 
 func collectCmd(dir string, quiet bool, stdout io.Writer) error {
-	pl, err := readPlan(dir)
+	pl, err := sweep.ReadPlan(dir)
 	if err != nil {
 		return err
 	}
-	rows, err := collectRows(dir, pl)
+	rows, err := sweep.Collect(dir, pl)
 	if err != nil {
 		return err
 	}
-	if err := writeSweepSummaries(dir, pl, rows); err != nil {
+	if err := sweep.WriteSummaries(dir, pl, rows); err != nil {
 		return err
 	}
 	var missing, failed []string
 	for _, r := range rows {
 		switch r.Status {
-		case statusMissing:
+		case sweep.StatusMissing:
 			missing = append(missing, r.P.Name)
-		case statusFailed:
+		case sweep.StatusFailed:
 			failed = append(failed, r.P.Name)
 		}
 	}
@@ -183,7 +200,7 @@ func collectCmd(dir string, quiet bool, stdout io.Writer) error {
 			parts = append(parts, fmt.Sprintf("%d not finished (first %s)", len(missing), missing[0]))
 		}
 		if len(failed) > 0 {
-			parts = append(parts, fmt.Sprintf("%d failed (first %s, see its %s)", len(failed), failed[0], pointErrorFile))
+			parts = append(parts, fmt.Sprintf("%d failed (first %s, see its %s)", len(failed), failed[0], sweep.PointErrorFile))
 		}
 		return fmt.Errorf("sweep collect: %s: %s; the summary lists them by status", dir, strings.Join(parts, ", "))
 	}

@@ -3,32 +3,16 @@ package main
 import (
 	"bytes"
 	"encoding/json"
-	"flag"
 	"fmt"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"gelspace/cmd/gelspace/fit"
+	"gelspace/configs"
 )
-
-var updateFit = flag.Bool("update-fit", false, "rewrite testdata/fit/ from the model")
-
-func TestParseMeasured(t *testing.T) {
-	// Heat flow: a constant 1 mW/g for 10 h releases 36 J/g (1 mW/g × 1 h
-	// = 3.6 J/g; exact by the trapezoid rule).
-	c, err := parseMeasured("f.csv", strings.NewReader("# lab export\ntime_h,heat_flow_mw_per_g\n1,1\n3,1\n5,1\n7,1\n9,1\n11,1\n"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if c.Kind != kindFlow || !c.FromFirst || math.Abs(c.Value[5]-36) > 1e-12 || c.Value[0] != 0 {
-		t.Errorf("flow curve: %+v", c)
-	}
-	c, err = parseMeasured("a.csv", strings.NewReader("alpha,time_h\n0.01,1\n0.1,4\n0.3,12\n0.45,24\n0.6,72\n"))
-	if err != nil || c.Kind != kindAlpha || c.TimeH[4] != 72 || c.Value[3] != 0.45 {
-		t.Errorf("alpha curve: %+v, %v", c, err)
-	}
-}
 
 // Bad curves exit 2 with one line naming the file, the line and the rule.
 func TestFitBadCurves(t *testing.T) {
@@ -55,9 +39,6 @@ func TestFitBadCurves(t *testing.T) {
 	}
 }
 
-// fitTruth are the multipliers the synthetic curves were made with.
-var fitTruth = Multipliers{1.25, 0.8, 1.2}
-
 // fitSyntheticTimes are the rows of a synthetic curve: half-hourly to
 // 72 h, then every 2 h to untilH (a calorimeter left running for weeks,
 // so that the through-product tail is in the curve).
@@ -74,104 +55,6 @@ func fitSyntheticTimes(untilH float64) []float64 {
 
 // fitRecoveryTol is the relative error allowed on a recovered multiplier.
 const fitRecoveryTol = 0.10
-
-// The fit recovers the multipliers of a curve the model itself produced
-// on the same boxes (30³ voxels, two seeds, to 14 d). Dissolution (the
-// height and width of the main peak) and through-product (the tail) come
-// back within 10 %. Nucleation does not: in the present engine halving or
-// doubling it moves the curve by about as much as the change of random
-// path that any change of the multipliers brings on a box this small, so
-// it is only required to stay inside the search box, and fit.json flags it
-// when the misfit hardly moves with it.
-func TestFitRecoversSynthetic(t *testing.T) {
-	cfg, err := LoadConfig("", []string{"box.voxels=30", "curing.until_h=336", "output.times_h=[]"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	times := fitSyntheticTimes(336)
-	m, err := newFitModel(cfg, 2, times, false)
-	if err != nil {
-		t.Fatal(err)
-	}
-	ref, err := m.curve(fitTruth)
-	if err != nil {
-		t.Fatal(err)
-	}
-	c := &measuredCurve{TimeH: times, Value: ref, Kind: kindHeat}
-	if f := newFitTarget(c).misfit(ref); f != 0 {
-		t.Fatalf("misfit of the model against itself = %g, want 0 (the model is deterministic)", f)
-	}
-	best, f, f0, evals, status, err := fitKinetics(m, newFitTarget(c), Multipliers{1, 1, 1}, fitSettings{MaxEvals: 120, Simplex: 0.4, Tol: 1e-4, Staged: true, Prior: fitPrior})
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Logf("truth %.3f, fitted %.3f, misfit %.4g from %.4g, %d evaluations, %s", fitTruth, best, f, f0, evals, status)
-	for _, i := range []int{0, 2} {
-		if r := best[i] / fitTruth[i]; math.Abs(r-1) > fitRecoveryTol {
-			t.Errorf("%s %.3f, want %.3f within 10 %%", multiplierKeys[i], best[i], fitTruth[i])
-		}
-	}
-	if !(f < 0.5*f0) {
-		t.Errorf("misfit %.4g from %.4g: want below half the start", f, f0)
-	}
-	if evals > 120 {
-		t.Errorf("%d evaluations, limit 120", evals)
-	}
-	// A held multiplier stays exactly where it was put; the others are
-	// still fitted (dissolution within 10 % with the other two at truth).
-	fix := fitSettings{MaxEvals: 40, Simplex: 0.4, Tol: 1e-4, Staged: true, Fixed: [3]bool{false, true, true}}
-	got, _, _, _, _, err := fitKinetics(m, newFitTarget(c), Multipliers{1, fitTruth[1], fitTruth[2]}, fix)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if got[1] != fitTruth[1] || got[2] != fitTruth[2] || math.Abs(got[0]/fitTruth[0]-1) > fitRecoveryTol {
-		t.Errorf("nucleation and through-product held: fitted %.4f, want [%.3f %g %g]", got, fitTruth[0], fitTruth[1], fitTruth[2])
-	}
-}
-
-// The comparison grid is log-spaced at fitPerDecade points per decade from
-// 0.5 h to the last row; the feature times and flows of a curve whose heat
-// grows linearly in time are exact.
-func TestFitTarget(t *testing.T) {
-	var times, heat []float64
-	for h := 0.25; h <= 100; h += 0.25 {
-		times = append(times, h)
-		heat = append(heat, 2*h) // 2 J/g per h
-	}
-	ft := newFitTarget(&measuredCurve{TimeH: times, Value: heat, Kind: kindHeat})
-	g := ft.gridH
-	if g[0] != 0.5 || g[len(g)-1] != 100 {
-		t.Errorf("grid from %g to %g h, want 0.5 to 100", g[0], g[len(g)-1])
-	}
-	// log10(100/0.5) = 2.3 decades: 46 steps, the last one shortened.
-	if n := len(g); n < 46 || n > 48 {
-		t.Errorf("%d grid points, want 47±1", n)
-	}
-	for i := 1; i < len(g)-1; i++ {
-		if r := math.Log10(g[i]/g[i-1]) * fitPerDecade; math.Abs(r-1) > 1e-9 {
-			t.Fatalf("grid step %d: %g of a 1/%d decade", i, r, fitPerDecade)
-		}
-	}
-	for i, p := range fitFractions {
-		if want := math.Log(p * 100); math.Abs(ft.lt[i]-want) > 1e-9 {
-			t.Errorf("time at %g of the final heat: ln t = %g, want %g", p, ft.lt[i], want)
-		}
-	}
-	if p := ft.misfitParts(heat); p != (misfitParts{}) {
-		t.Errorf("misfit against itself %+v, want 0", p)
-	}
-	// Twice the heat: the flow is doubled (ln 2 per interval wherever the
-	// floor is negligible), the heat off by the measured value, and the
-	// features reached at half the time.
-	twice := make([]float64, len(heat))
-	for i, v := range heat {
-		twice[i] = 2 * v
-	}
-	p := ft.misfitParts(twice)
-	if math.Abs(p.Time-math.Log(2)) > 0.02 || math.Abs(p.Flow-math.Log(2)) > 0.01 || p.Heat < 0.3 {
-		t.Errorf("twice the heat: %+v, want time and flow terms ≈ ln 2 = 0.693", p)
-	}
-}
 
 func TestParseFixes(t *testing.T) {
 	fixed, sets, err := parseFixes([]string{"through_product_scale=1.5", "kinetics.nucleation_scale = 0.7"})
@@ -207,7 +90,7 @@ func TestFitCommand(t *testing.T) {
 		frag := readFile(t, filepath.Join(out, "fit.toml"))
 		cfgPath := filepath.Join(t.TempDir(), "c.toml")
 		os.WriteFile(cfgPath, []byte(goodConfig+frag), 0o644)
-		if _, err := LoadConfig(cfgPath, nil); err != nil {
+		if _, err := configs.Load(cfgPath, nil); err != nil {
 			t.Errorf("%s: fit.toml does not make a valid config: %v\n%s", name, err, frag)
 		}
 		for _, f := range []string{"fit.json", "fit.png"} {
@@ -220,7 +103,7 @@ func TestFitCommand(t *testing.T) {
 	out := filepath.Join(t.TempDir(), "fit")
 	mainOK(t, "fit", filepath.Join("..", "..", "testdata", "fit", "rw-g-heat-20c.csv"), "--size", "24", "--seeds", "1", "--max-evals", "12",
 		"--fix", "through_product_scale=1.2", "--fix", "nucleation_scale=0.8", "--out", out, "-q")
-	var r FitResult
+	var r fit.Result
 	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(out, "fit.json"))), &r); err != nil {
 		t.Fatal(err)
 	}
@@ -236,88 +119,19 @@ func TestFitCommand(t *testing.T) {
 	}
 }
 
-// TestFitTestdata checks the invented lab curves of testdata/fit (made by
-// the model with fitTruth on the default mix, 40³ voxels, seeds 7–9;
-// rewrite with -update-fit).
-func TestFitTestdata(t *testing.T) {
-	dir := filepath.Join("..", "..", "testdata", "fit")
-	if *updateFit {
-		cfg, err := LoadConfig("", []string{"box.voxels=40", "curing.until_h=72", "output.times_h=[]"})
-		if err != nil {
-			t.Fatal(err)
-		}
-		var times []float64
-		for t := 0.5; t <= 72; t += 0.5 {
-			times = append(times, t)
-		}
-		m, err := newFitModel(cfg, 3, times, false)
-		if err != nil {
-			t.Fatal(err)
-		}
-		heat, err := m.curve(fitTruth)
-		if err != nil {
-			t.Fatal(err)
-		}
-		m.alpha = true
-		alpha, err := m.curve(fitTruth)
-		if err != nil {
-			t.Fatal(err)
-		}
-		head := fmt.Sprintf("# Invented isothermal calorimetry of cement RW-G (Redhaven Works, invented), 20 °C, w/c 0.45.\n# Made by the gelspace model itself (40³ voxels, seeds 7-9, dissolution %.2f, nucleation %.2f, through-product %.2f): synthetic, not measured.\n", fitTruth[0], fitTruth[1], fitTruth[2])
-		var h, f, a bytes.Buffer
-		h.WriteString(head + "time_h,heat_j_per_g\n")
-		f.WriteString(head + "time_h,heat_flow_mw_per_g\n")
-		a.WriteString(head + "time_h,alpha\n")
-		for i, tt := range times {
-			fmt.Fprintf(&h, "%g,%.3f\n", tt, heat[i])
-			fmt.Fprintf(&a, "%g,%.5f\n", tt, alpha[i])
-			if i > 0 && i%2 == 1 { // flow at hourly mid-points from the heat increments
-				flow := (heat[i] - heat[i-1]) / ((times[i] - times[i-1]) * 3.6)
-				fmt.Fprintf(&f, "%g,%.4f\n", 0.5*(tt+times[i-1]), flow)
-			}
-		}
-		for name, b := range map[string][]byte{"rw-g-heat-20c.csv": h.Bytes(), "rw-g-flow-20c.csv": f.Bytes(), "rw-g-alpha-20c.csv": a.Bytes()} {
-			if err := os.WriteFile(filepath.Join(dir, name), b, 0o644); err != nil {
-				t.Fatal(err)
-			}
-		}
-	}
-	for _, name := range []string{"rw-g-heat-20c.csv", "rw-g-flow-20c.csv", "rw-g-alpha-20c.csv"} {
-		c, err := readMeasured(filepath.Join(dir, name))
-		if err != nil {
-			t.Fatal(err)
-		}
-		last := c.Value[len(c.Value)-1]
-		switch c.Kind {
-		case kindHeat:
-			// 3 d heat of a Portland cement: a few hundred J/g (Lerch &
-			// Bogue phase heats as given by Taylor 1997, from memory:
-			// total ≈ 450–500 J/g for this composition); wide band.
-			if last < 150 || last > 480 {
-				t.Errorf("%s: 72 h heat %g J/g outside 150–480", name, last)
-			}
-		case kindAlpha:
-			// α at 3 d, w/c 0.45: textbook range 0.5–0.75 (from memory).
-			if last < 0.45 || last > 0.85 {
-				t.Errorf("%s: 72 h α %g outside 0.45–0.85", name, last)
-			}
-		}
-	}
-}
-
 // fitLongTargets are the synthetic truths of the long test; through says
 // whether the through-product multiplier is checked.
 var fitLongTargets = []struct {
-	truth   Multipliers
+	truth   fit.Multipliers
 	through bool
 }{
-	{Multipliers{1, 1, 1}, true},
-	{Multipliers{0.8, 1.2, 1}, true},
-	{Multipliers{1.2, 0.8, 1.25}, true},
+	{fit.Multipliers{1, 1, 1}, true},
+	{fit.Multipliers{0.8, 1.2, 1}, true},
+	{fit.Multipliers{1.2, 0.8, 1.25}, true},
 	// Faster nucleation with a slower through-product stage: the two
 	// nearly cancel (the curve is within 0.1 of the default's misfit,
 	// about the change of random path), and the fit stays near the start.
-	{Multipliers{1, 1.5, 0.8}, false},
+	{fit.Multipliers{1, 1.5, 0.8}, false},
 }
 
 // With the command's defaults (40³ voxels, seeds 7–9, 120 evaluations)
@@ -331,18 +145,18 @@ func TestFitCommandRecoversLong(t *testing.T) {
 	if os.Getenv("GELSPACE_LONG") == "" {
 		t.Skip("GELSPACE_LONG not set: four fits with the default settings take several minutes")
 	}
-	cfg, err := LoadConfig("", []string{"box.voxels=40", "curing.until_h=672", "output.times_h=[]"})
+	cfg, err := configs.Load("", []string{"box.voxels=40", "curing.until_h=672", "output.times_h=[]"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	times := fitSyntheticTimes(672)
-	m, err := newFitModel(cfg, 3, times, false)
+	m, err := fit.NewModel(cfg, 3, times, false)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, target := range fitLongTargets {
 		truth := target.truth
-		heat, err := m.curve(truth)
+		heat, err := m.Curve(truth)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -355,22 +169,22 @@ func TestFitCommandRecoversLong(t *testing.T) {
 		os.WriteFile(curve, b.Bytes(), 0o644)
 		out := filepath.Join(t.TempDir(), "fit")
 		args := []string{"fit", curve, "--out", out, "-q"}
-		if truth == (Multipliers{1, 1, 1}) { // start away from the truth
+		if truth == (fit.Multipliers{1, 1, 1}) { // start away from the truth
 			args = append(args, "--set", "kinetics.dissolution_scale=1.3", "--set", "kinetics.nucleation_scale=0.7", "--set", "kinetics.through_product_scale=1.3")
 		}
 		mainOK(t, args...)
-		var r FitResult
+		var r fit.Result
 		if err := json.Unmarshal([]byte(readFile(t, filepath.Join(out, "fit.json"))), &r); err != nil {
 			t.Fatal(err)
 		}
 		var ratio [3]float64
-		for i, k := range multiplierKeys {
+		for i, k := range fit.MultiplierKeys {
 			ratio[i] = r.Fitted[k] / truth[i]
 		}
 		t.Logf("truth %v: fitted/truth %.3f, misfit %.4g from %.4g (%v), determined %v, %.0f s", truth, ratio, r.Misfit, r.MisfitStart, r.MisfitParts, r.Determined, r.WallS)
 		for _, i := range []int{0, 2} {
 			if (i == 0 || target.through) && math.Abs(ratio[i]-1) > fitRecoveryTol {
-				t.Errorf("truth %v: %s = %.3f, want %.3f within 10 %%", truth, multiplierKeys[i], r.Fitted[multiplierKeys[i]], truth[i])
+				t.Errorf("truth %v: %s = %.3f, want %.3f within 10 %%", truth, fit.MultiplierKeys[i], r.Fitted[fit.MultiplierKeys[i]], truth[i])
 			}
 		}
 		// The last target starts within the noise of its truth (misfit

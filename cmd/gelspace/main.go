@@ -12,13 +12,15 @@ import (
 
 	"github.com/spf13/pflag"
 
+	"gelspace/cmd/gelspace/run"
+	"gelspace/configs"
 	"gelspace/voxel"
 )
 
 func main() { os.Exit(Main(os.Args[1:], os.Stdout, os.Stderr)) }
 
 // version is gelspace's version, recorded in outputs.
-const version = "0.1.0-dev"
+const version = run.Version
 
 // caution is printed by --help and written in the README.
 const caution = `gelspace predicts; it does not certify. Set times, porosities and
@@ -96,7 +98,7 @@ func fail(stderr io.Writer, err error) int {
 // exitCode is 2 for bad usage or bad input, 1 otherwise.
 func exitCode(err error) int {
 	var ue *usageError
-	var ie *InputError
+	var ie *configs.InputError
 	var pe *voxel.PackError
 	if errors.As(err, &ue) || errors.As(err, &ie) || errors.As(err, &pe) {
 		return 2
@@ -172,7 +174,7 @@ func addConfigFlags(fs *pflag.FlagSet, o *configFlags) {
 
 // load reads the config named by the positional arguments (at most one;
 // none means the embedded default) with the overrides.
-func (o *configFlags) load(fs *pflag.FlagSet, cmd string) (*Config, error) {
+func (o *configFlags) load(fs *pflag.FlagSet, cmd string) (*configs.Config, error) {
 	if fs.NArg() > 1 {
 		return nil, &usageError{fmt.Sprintf("%s: takes at most one CONFIG, got %d arguments; see gelspace %s --help", cmd, fs.NArg(), cmd)}
 	}
@@ -186,5 +188,5 @@ func (o *configFlags) load(fs *pflag.FlagSet, cmd string) (*Config, error) {
 	if fs.Changed("size") {
 		sets = append(sets, fmt.Sprintf("box.voxels=%d", o.size))
 	}
-	return LoadConfig(fs.Arg(0), sets)
+	return configs.Load(fs.Arg(0), sets)
 }

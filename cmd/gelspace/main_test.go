@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	"io"
 	"io/fs"
 	"math"
 	"os"
@@ -12,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"gelspace/cmd/gelspace/run"
 	"gelspace/configs"
 	"gelspace/kinetics"
 	"gelspace/voxel"
@@ -180,7 +180,7 @@ func TestExampleConfigs(t *testing.T) {
 		if code := Main([]string{"mix", p, "--json"}, &out, &errb); code != 0 {
 			t.Fatalf("mix %s: exit %d: %s", p, code, errb.String())
 		}
-		var rep MixReport
+		var rep run.MixReport
 		if err := json.Unmarshal(out.Bytes(), &rep); err != nil {
 			t.Fatal(err)
 		}
@@ -212,7 +212,7 @@ func checkPackOutput(t *testing.T, dir string, n int) {
 	if g.NX != n || !bytes.Equal(g.Phase, h.Phase) {
 		t.Fatalf("vti and npy differ (%d)", g.NX)
 	}
-	var rep PackReport
+	var rep run.PackReport
 	data, _ := os.ReadFile(filepath.Join(dir, "pack.json"))
 	if err := json.Unmarshal(data, &rep); err != nil {
 		t.Fatal(err)
@@ -260,93 +260,4 @@ func TestDefaultPack(t *testing.T) {
 	if !bytes.Equal(a, b) {
 		t.Fatal("same config, different pack.vti")
 	}
-}
-
-func TestSetOverrides(t *testing.T) {
-	cfg, err := LoadConfig("", []string{"mix.w_c=0.38", "psd.rosin_rammler.x_um=10", `curing.mode="sealed"`, "curing.mode=sealed", "seed=99", "box.voxels=60"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if cfg.Mix.WC != 0.38 || cfg.PSD.RosinRammler.XUM != 10 || cfg.Curing.Mode != "sealed" || cfg.Seed != 99 || cfg.Box.Voxels != 60 {
-		t.Fatalf("overrides not applied: %+v", cfg)
-	}
-	// an override replacing the PSD form
-	cfg, err = LoadConfig("", []string{"psd.rosin_rammler.n=0.9", "cement.phases.calcite=0", "cement.phases.c3s=60"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if cfg.PSD.RosinRammler.N != 0.9 || cfg.Cement.Phases["c3s"] != 60 {
-		t.Fatalf("nested overrides: %+v", cfg.Cement.Phases)
-	}
-	if _, err := LoadConfig("", []string{"mix"}); err == nil {
-		t.Fatal("KEY without =VALUE accepted")
-	}
-	if _, err := LoadConfig("", []string{"mix.w_c.x=1"}); err == nil {
-		t.Fatal("sub-key of a value accepted")
-	}
-}
-
-func TestConfigDefaults(t *testing.T) {
-	// keys a config leaves out keep Defaults
-	dir := t.TempDir()
-	p := filepath.Join(dir, "min.toml")
-	os.WriteFile(p, []byte("[cement]\nphases = { c3s = 70, c2s = 25, gypsum = 5 }\n[psd]\nrosin_rammler = { x_um = 10, n = 1 }\n[mix]\nw_c = 0.5\n"), 0o644)
-	cfg, err := LoadConfig(p, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	d := Defaults()
-	if cfg.Box != d.Box || cfg.Curing != d.Curing || cfg.Pack != d.Pack || len(cfg.Output.TimesH) != len(d.Output.TimesH) {
-		t.Fatalf("defaults not kept: %+v", cfg)
-	}
-}
-
-func TestAtomicWrite(t *testing.T) {
-	dir := t.TempDir()
-	p := filepath.Join(dir, "x.txt")
-	if err := WriteFileAtomic(p, func(w io.Writer) error { _, err := w.Write([]byte("hello")); return err }); err != nil {
-		t.Fatal(err)
-	}
-	if err := WriteFileAtomic(p, func(w io.Writer) error { w.Write([]byte("partial")); return os.ErrInvalid }); err == nil {
-		t.Fatal("failed write reported success")
-	}
-	b, _ := os.ReadFile(p)
-	entries, _ := os.ReadDir(dir)
-	if string(b) != "hello" || len(entries) != 1 {
-		t.Fatalf("after a failed write: %q, %d files", b, len(entries))
-	}
-}
-
-func FuzzConfig(f *testing.F) {
-	f.Add(goodConfig)
-	f.Add(string(configs.Default()))
-	for _, c := range badInputs {
-		if c.edit[0] != "" {
-			f.Add(strings.Replace(goodConfig, c.edit[0], c.edit[1], 1))
-		}
-	}
-	f.Fuzz(func(t *testing.T, s string) {
-		raw, err := ParseRaw("fuzz.toml", ".", []byte(s))
-		if err != nil {
-			if _, ok := err.(*InputError); !ok {
-				t.Fatalf("parse error of type %T", err)
-			}
-			return
-		}
-		cfg, err := raw.Decode()
-		if err != nil {
-			if _, ok := err.(*InputError); !ok {
-				t.Fatalf("decode error of type %T: %v", err, err)
-			}
-			return
-		}
-		if err := cfg.Validate(); err != nil {
-			if _, ok := err.(*InputError); !ok {
-				t.Fatalf("validate error of type %T", err)
-			}
-			if strings.Contains(err.Error(), "\n") {
-				t.Fatalf("multi-line error %q", err)
-			}
-		}
-	})
 }

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"gelspace/cmd/gelspace/run"
 	"gelspace/render"
 )
 
@@ -50,7 +51,7 @@ func TestRunOutputs(t *testing.T) {
 			t.Errorf("missing %s", f)
 		}
 	}
-	if _, err := os.Stat(filepath.Join(out, checkpointFile)); err == nil {
+	if _, err := os.Stat(filepath.Join(out, run.CheckpointFile)); err == nil {
 		t.Error("a finished run left its checkpoint")
 	}
 	f, err := os.Open(filepath.Join(out, "series.csv"))
@@ -167,7 +168,7 @@ func TestRunBadInputs(t *testing.T) {
 	afterCheckpoint = func() error { return errKilled }
 	Main([]string{"run", cfg, "--out", corrupt, "--no-render", "-q", "--checkpoint-every", "6h"}, io.Discard, io.Discard)
 	afterCheckpoint = nil
-	ck := filepath.Join(corrupt, checkpointFile)
+	ck := filepath.Join(corrupt, run.CheckpointFile)
 	data, err := os.ReadFile(ck)
 	if err != nil {
 		t.Fatal(err)
@@ -244,7 +245,7 @@ diffusivity = false
 `, wc, untilH))
 		out := filepath.Join(t.TempDir(), "run")
 		mustRun(t, "run", cfg, "--out", out, "--no-render", "-q")
-		var s RunSummary
+		var s run.Summary
 		data, _ := os.ReadFile(filepath.Join(out, "summary.json"))
 		if err := json.Unmarshal(data, &s); err != nil {
 			t.Fatal(err)

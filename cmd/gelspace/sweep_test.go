@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -12,6 +11,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"gelspace/cmd/gelspace/sweep"
 )
 
 // sweepBase is a tiny run config for sweep tests: 24³ voxels to 24 h.
@@ -73,59 +74,6 @@ func readFile(t testing.TB, p string) string {
 	return string(b)
 }
 
-func TestParseSweepRanges(t *testing.T) {
-	s, err := ParseSweep("s.toml", []byte(`replicates = 3
-[axes]
-"mix.w_c" = { from = 0.35, to = 0.55, step = 0.05 }
-"box.voxels" = { from = 20, to = 30, step = 5 }
-"curing.mode" = ["saturated", "sealed"]
-`))
-	if err != nil {
-		t.Fatal(err)
-	}
-	got := fmt.Sprint(s.Axes[0].Values)
-	if got != "[0.35 0.4 0.45 0.5 0.55]" {
-		t.Errorf("w/c range = %s, want [0.35 0.4 0.45 0.5 0.55] exactly", got)
-	}
-	if got := fmt.Sprint(s.Axes[1].Values); got != "[20 25 30]" {
-		t.Errorf("integer range = %s", got)
-	}
-	if _, ok := s.Axes[1].Values[0].(int64); !ok {
-		t.Errorf("integer range gave %T, want int64", s.Axes[1].Values[0])
-	}
-	if s.NumPoints() != 5*3*2 || s.Replicates != 3 {
-		t.Errorf("points %d, replicates %d", s.NumPoints(), s.Replicates)
-	}
-	// Row-major, first axis slowest: point 7 = w/c index 1, voxels 0, mode 1.
-	if got := fmt.Sprint(s.valueIndices(7)); got != "[1 0 1]" {
-		t.Errorf("valueIndices(7) = %s, want [1 0 1]", got)
-	}
-	// A range whose end falls between steps stops before it.
-	v, err := floatRange(0.1, 0.35, 0.1)
-	if err != nil || fmt.Sprint(v) != "[0.1 0.2 0.3]" {
-		t.Errorf("floatRange(0.1, 0.35, 0.1) = %v, %v", v, err)
-	}
-}
-
-func TestParseSweepErrors(t *testing.T) {
-	for _, c := range []struct{ name, text, want string }{
-		{"unknown top key", "replicate = 3\n[axes]\n\"mix.w_c\" = [0.4]\n", "s.toml:1: replicate: unknown key"},
-		{"unknown axes subkey", "[axes]\n\"mix.w_c\" = { from = 0.3, to = 0.5, stride = 0.1 }\n", "s.toml:2: axes.mix.w_c: range key \"stride\""},
-		{"zip lengths", "[zip]\n\"mix.w_c\" = [0.4, 0.5]\n\"box.voxels\" = [20, 24, 30]\n", "s.toml:3: zip.box.voxels: has 3 values but mix.w_c (line 2) has 2"},
-		{"scalar axis", "[axes]\n\"mix.w_c\" = 0.4\n", "must be a list"},
-		{"negative step", "[axes]\n\"mix.w_c\" = { from = 0.5, to = 0.3, step = 0.1 }\n", "step must be > 0 and to ≥ from"},
-		{"bad replicates", "replicates = 0\n[axes]\n\"mix.w_c\" = [0.4]\n", "s.toml:1: replicates: 0: must be a whole number between 1 and 1000"},
-		{"twice", "[axes]\n\"mix.w_c\" = [0.4]\n[zip]\n\"mix.w_c\" = [0.5]\n", "already swept"},
-		{"nothing", "base = \"b.toml\"\n", "nothing to sweep"},
-		{"malformed", "[axes\n", "s.toml:2: malformed TOML"},
-	} {
-		_, err := ParseSweep("s.toml", []byte(c.text))
-		if err == nil || !strings.Contains(err.Error(), c.want) {
-			t.Errorf("%s: error %v, want it to contain %q", c.name, err, c.want)
-		}
-	}
-}
-
 // A swept value that the config refuses is reported at the axis's line in
 // the sweep file, and a key unknown to the config too; exit status 2,
 // nothing run.
@@ -144,46 +92,6 @@ func TestSweepBadAxisValue(t *testing.T) {
 		if _, err := os.Stat(out); err == nil {
 			t.Errorf("%s: the sweep folder was created for a refused sweep", c.axis)
 		}
-	}
-}
-
-func TestSweepPointConfigs(t *testing.T) {
-	sw := writeSweep(t, tinySweep)
-	spec, err := LoadSweep(sw)
-	if err != nil {
-		t.Fatal(err)
-	}
-	pts, err := spec.Points(nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(pts) != 8 {
-		t.Fatalf("%d points, want 2 × 2 × 2 replicates = 8", len(pts))
-	}
-	want := []string{"p0000_r0", "p0000_r1", "p0001_r0", "p0001_r1", "p0002_r0", "p0002_r1", "p0003_r0", "p0003_r1"}
-	for i, p := range pts {
-		if p.Name != want[i] || p.Seed != 3+int64(p.Replicate) {
-			t.Errorf("point %d: %s seed %d, want %s seed %d", i, p.Name, p.Seed, want[i], 3+p.Replicate)
-		}
-	}
-	// Point 3 is w/c 0.5 with the second zip pair.
-	cfgPath := filepath.Join(t.TempDir(), "config.toml")
-	os.WriteFile(cfgPath, pts[7].Config, 0o644)
-	cfg, err := LoadConfig(cfgPath, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if cfg.Mix.WC != 0.5 || cfg.PSD.RosinRammler.XUM != 7 || cfg.PSD.RosinRammler.N != 1.2 || cfg.Seed != 4 || cfg.Box.Voxels != 24 {
-		t.Errorf("point p0003_r1 config: w/c %g, x′ %g, n %g, seed %d, voxels %d", cfg.Mix.WC, cfg.PSD.RosinRammler.XUM, cfg.PSD.RosinRammler.N, cfg.Seed, cfg.Box.Voxels)
-	}
-	// Command-line overrides reach every point; [set] keys too.
-	spec2, _ := ParseSweep(sw, []byte(tinySweep+"[set]\n\"curing.temperature_c\" = 30.0\n"))
-	pts2, err := spec2.Points([]string{"box.voxels=20"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !strings.Contains(string(pts2[0].Config), "voxels = 20") || !strings.Contains(string(pts2[0].Config), "temperature_c = 30.0") {
-		t.Errorf("overrides missing from the point config:\n%s", pts2[0].Config)
 	}
 }
 
@@ -249,7 +157,7 @@ func TestSweepFailedPoint(t *testing.T) {
 	if code != 1 || !strings.Contains(e.String(), "1 of 2 runs failed") || !strings.Contains(e.String(), "p0001_r0") {
 		t.Fatalf("exit %d: %s", code, e.String())
 	}
-	if msg := readFile(t, filepath.Join(out, "points", "p0001_r0", pointErrorFile)); !strings.Contains(msg, "raise mix.w_c") {
+	if msg := readFile(t, filepath.Join(out, "points", "p0001_r0", sweep.PointErrorFile)); !strings.Contains(msg, "raise mix.w_c") {
 		t.Errorf("error.txt: %q", msg)
 	}
 	sum := readFile(t, filepath.Join(out, "summary.csv"))
@@ -267,13 +175,13 @@ func TestSweepPlanCollect(t *testing.T) {
 	mainOK(t, "sweep", sw, "--out", ref, "-q")
 	dir := filepath.Join(t.TempDir(), "plan")
 	mainOK(t, "sweep", "plan", sw, "--out", dir, "-q")
-	script := readFile(t, filepath.Join(dir, slurmScriptFile))
+	script := readFile(t, filepath.Join(dir, sweep.SlurmScriptFile))
 	for _, want := range []string{"#!/bin/bash", "#SBATCH --array=0-7", "SLURM_ARRAY_TASK_ID", "run \"$point/config.toml\" --out \"$point\" --no-render"} {
 		if !strings.Contains(script, want) {
 			t.Errorf("slurm.sh lacks %q:\n%s", want, script)
 		}
 	}
-	if st, _ := os.Stat(filepath.Join(dir, slurmScriptFile)); st.Mode()&0o100 == 0 {
+	if st, _ := os.Stat(filepath.Join(dir, sweep.SlurmScriptFile)); st.Mode()&0o100 == 0 {
 		t.Errorf("slurm.sh is not executable")
 	}
 	// collect before any point ran: exit 1, every row missing.
@@ -281,7 +189,7 @@ func TestSweepPlanCollect(t *testing.T) {
 	if code := Main([]string{"sweep", "collect", dir, "-q"}, &o, &e); code != 1 || !strings.Contains(e.String(), "8 not finished") {
 		t.Errorf("collect of an unrun plan: exit %d, %s", code, e.String())
 	}
-	cmds := strings.Split(strings.TrimSpace(readFile(t, filepath.Join(dir, commandsFile))), "\n")
+	cmds := strings.Split(strings.TrimSpace(readFile(t, filepath.Join(dir, sweep.CommandsFile))), "\n")
 	if len(cmds) != 8 {
 		t.Fatalf("commands.txt has %d lines", len(cmds))
 	}
@@ -327,7 +235,7 @@ func TestSweepKillResume(t *testing.T) {
 	}
 	deadline := time.Now().Add(60 * time.Second)
 	for {
-		m, _ := filepath.Glob(filepath.Join(dir, "points", "*", pointMarkerFile))
+		m, _ := filepath.Glob(filepath.Join(dir, "points", "*", sweep.MarkerFile))
 		if len(m) > 0 {
 			break
 		}
@@ -340,7 +248,7 @@ func TestSweepKillResume(t *testing.T) {
 	cmd.Process.Signal(syscall.SIGKILL)
 	cmd.Wait()
 	before := map[string]string{}
-	m, _ := filepath.Glob(filepath.Join(dir, "points", "*", pointMarkerFile))
+	m, _ := filepath.Glob(filepath.Join(dir, "points", "*", sweep.MarkerFile))
 	for _, p := range m {
 		before[p] = readFile(t, p)
 	}
@@ -360,17 +268,17 @@ func TestSweepKillResume(t *testing.T) {
 			t.Errorf("%s was rewritten on resume: the point ran twice", p)
 		}
 	}
-	m, _ = filepath.Glob(filepath.Join(dir, "points", "*", pointMarkerFile))
+	m, _ = filepath.Glob(filepath.Join(dir, "points", "*", sweep.MarkerFile))
 	if len(m) != 8 {
 		t.Errorf("%d markers after resume, want 8", len(m))
 	}
 	// The log: each point finished ("done") at most once over both
 	// processes, and every point not complete at the kill exactly once by
 	// the resume.
-	log := readFile(t, filepath.Join(dir, sweepLogFile))
+	log := readFile(t, filepath.Join(dir, sweep.LogFile))
 	pids := map[string]bool{}
 	for _, p := range m {
-		var mk marker
+		var mk sweep.Marker
 		json.Unmarshal([]byte(readFile(t, p)), &mk)
 		pids[fmt.Sprint(mk.PID)] = true
 		name := filepath.Base(filepath.Dir(p))
@@ -391,54 +299,6 @@ func TestSweepKillResume(t *testing.T) {
 
 // Replicate statistics: mean, sample standard deviation and the Student t
 // interval; missing values are left out, not counted as zeros.
-func TestStatsOf(t *testing.T) {
-	// t(0.975, ν = 2) = 4.303 and t(0.975, ν = 4) = 2.776: standard
-	// Student t tables (common practice).
-	s := statsOf([]float64{1, 2, 3})
-	if s.N != 3 || s.Mean != 2 || math.Abs(s.SD-1) > 1e-12 || math.Abs(s.TQ95-4.303) > 5e-4 {
-		t.Errorf("statsOf(1,2,3) = %+v", s)
-	}
-	if want := 4.3027 / math.Sqrt(3); math.Abs(s.CI95-want) > 1e-3 {
-		t.Errorf("ci95 = %g, want %g", s.CI95, want)
-	}
-	s = statsOf([]float64{2, 4, 4, 4, 6})
-	if math.Abs(s.TQ95-2.776) > 5e-4 {
-		t.Errorf("t(0.975, 4) = %g, want 2.776", s.TQ95)
-	}
-	nan := math.NaN()
-	s = statsOf([]float64{10, nan, 14})
-	if s.N != 2 || s.Mean != 12 {
-		t.Errorf("with a missing replicate: %+v, want n 2, mean 12", s)
-	}
-	s = statsOf([]float64{nan, 5, nan})
-	if s.N != 1 || s.Mean != 5 || !math.IsNaN(s.SD) || !math.IsNaN(s.CI95) {
-		t.Errorf("one value: %+v", s)
-	}
-	s = statsOf([]float64{nan})
-	if s.N != 0 || !math.IsNaN(s.Mean) {
-		t.Errorf("no value: %+v", s)
-	}
-	// In summary_stats.csv a point where one replicate of two depercolated
-	// says n = 1 and gives that value as the mean.
-	pl := &sweepPlan{Replicates: 2, Axes: []planAxis{{Key: "mix.w_c", Values: []string{"0.4"}}}}
-	nOut := len(sweepOutputs())
-	row := func(rep int, dep float64) sweepRow {
-		v := make([]float64, nOut)
-		for i := range v {
-			v[i] = nan
-		}
-		v[2] = dep
-		return sweepRow{P: planPoint{Name: fmt.Sprintf("p0000_r%d", rep), Replicate: rep, Values: []int{0}}, Status: statusOK, Vals: v}
-	}
-	var b bytes.Buffer
-	if err := writeStatsCSV(&b, pl, []sweepRow{row(0, 100), row(1, nan)}); err != nil {
-		t.Fatal(err)
-	}
-	if !strings.Contains(b.String(), "0,0.4,2,2,0,,,,0,,,,1,100,,,") {
-		t.Errorf("summary_stats.csv:\n%s", b.String())
-	}
-}
-
 // BenchmarkSweepScaling runs one point with --jobs 1 and two points with
 // --jobs 2 and reports both times and their ratio (Speed target: ≤ 1.15 on
 // two free cores).

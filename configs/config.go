@@ -1,4 +1,4 @@
-package main
+package configs
 
 import (
 	"errors"
@@ -11,25 +11,23 @@ import (
 	"sort"
 	"strings"
 
-	"gelspace/configs"
 	"gelspace/kinetics"
 )
 
 // Config is a run's settings, as read from a TOML file (keys in the toml
-// tags; DESIGN.md lists the contract). Absent keys keep the values of
-// Defaults. Add a key by adding a field with its tag and a check in
-// Validate.
+// tags). Absent keys keep the values of Defaults. Add a key by adding a
+// field with its tag and a check in Validate.
 type Config struct {
-	Seed   int64        `toml:"seed"` // random seed, ≥ 0
-	Cement CementConfig `toml:"cement"`
-	PSD    PSDConfig    `toml:"psd"`
-	Mix    MixConfig    `toml:"mix"`
-	Box    BoxConfig    `toml:"box"`
-	Pack   PackConfig   `toml:"pack"`
-	Curing CuringConfig `toml:"curing"`
-	Output OutputConfig `toml:"output"`
+	Seed   int64  `toml:"seed"` // random seed, ≥ 0
+	Cement Cement `toml:"cement"`
+	PSD    PSD    `toml:"psd"`
+	Mix    Mix    `toml:"mix"`
+	Box    Box    `toml:"box"`
+	Pack   Pack   `toml:"pack"`
+	Curing Curing `toml:"curing"`
+	Output Output `toml:"output"`
 
-	Kinetics KineticsConfig `toml:"kinetics"`
+	Kinetics Kinetics `toml:"kinetics"`
 
 	Source string `toml:"-"` // where the config came from, for messages
 	Dir    string `toml:"-"` // folder that relative paths are read from
@@ -37,7 +35,7 @@ type Config struct {
 }
 
 // CementConfig describes the powder: phases OR oxides, in mass percent.
-type CementConfig struct {
+type Cement struct {
 	Name string `toml:"name"` // label for reports
 
 	// Phases: mass percent by phase key (c3s, c2s, c3a, c4af, gypsum,
@@ -55,30 +53,30 @@ type CementConfig struct {
 }
 
 // RosinRammlerConfig holds the Rosin–Rammler parameters.
-type RosinRammlerConfig struct {
+type RosinRammler struct {
 	XUM float64 `toml:"x_um"` // characteristic size x′, µm
 	N   float64 `toml:"n"`    // uniformity
 }
 
 // PSDConfig is the particle size distribution: rosin_rammler OR table.
-type PSDConfig struct {
-	RosinRammler *RosinRammlerConfig `toml:"rosin_rammler"`
-	Table        string              `toml:"table"` // CSV size_um,passing_percent, relative to the config
+type PSD struct {
+	RosinRammler *RosinRammler `toml:"rosin_rammler"`
+	Table        string        `toml:"table"` // CSV size_um,passing_percent, relative to the config
 }
 
 // MixConfig holds the proportions.
-type MixConfig struct {
+type Mix struct {
 	WC float64 `toml:"w_c"` // water-to-cement mass ratio
 }
 
 // BoxConfig is the voxel box.
-type BoxConfig struct {
+type Box struct {
 	Voxels  int     `toml:"voxels"`   // edge length in voxels
 	VoxelUM float64 `toml:"voxel_um"` // voxel edge in µm
 }
 
 // PackConfig steers the packing of the initial microstructure.
-type PackConfig struct {
+type Pack struct {
 	// CorrelationUM is the size of the phase domains inside clinker
 	// grains, µm.
 	CorrelationUM float64 `toml:"correlation_um"`
@@ -90,7 +88,7 @@ type PackConfig struct {
 }
 
 // CuringConfig is the curing regime.
-type CuringConfig struct {
+type Curing struct {
 	Mode         string  `toml:"mode"`          // "saturated" or "sealed"
 	TemperatureC float64 `toml:"temperature_c"` // isothermal temperature, °C
 	UntilH       float64 `toml:"until_h"`       // age at which the run stops, h
@@ -108,7 +106,7 @@ type CuringConfig struct {
 }
 
 // OutputConfig says what to record.
-type OutputConfig struct {
+type Output struct {
 	TimesH []float64 `toml:"times_h"` // ages of the output rows, h
 	// SampleEveryH is the interval of the fine samples (samples.csv, the
 	// heat-flow curve), h.
@@ -127,31 +125,31 @@ type OutputConfig struct {
 func Defaults() *Config {
 	return &Config{
 		Seed:     1,
-		Box:      BoxConfig{Voxels: 100, VoxelUM: 1},
-		Pack:     PackConfig{CorrelationUM: 3},
-		Curing:   CuringConfig{Mode: "saturated", TemperatureC: 20, UntilH: 672},
-		Output:   OutputConfig{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}, SampleEveryH: 0.25, Diffusivity: true, DiffusivityTol: 1e-5},
+		Box:      Box{Voxels: 100, VoxelUM: 1},
+		Pack:     Pack{CorrelationUM: 3},
+		Curing:   Curing{Mode: "saturated", TemperatureC: 20, UntilH: 672},
+		Output:   Output{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}, SampleEveryH: 0.25, Diffusivity: true, DiffusivityTol: 1e-5},
 		Kinetics: defaultKinetics(),
 	}
 }
 
 // DefaultConfigName names the embedded default in messages.
-const DefaultConfigName = "default.toml (embedded)"
+const DefaultName = "default.toml (embedded)"
 
 // LoadConfig reads the config at path (the embedded default when path is
 // ""), applies the KEY=VALUE overrides in sets, in order, and validates
 // the result. Errors are *InputError.
-func LoadConfig(path string, sets []string) (*Config, error) {
+func Load(path string, sets []string) (*Config, error) {
 	raw, err := LoadRaw(path)
 	if err != nil {
 		return nil, err
 	}
-	return configFromRaw(raw, sets)
+	return FromRaw(raw, sets)
 }
 
-// configFromRaw applies the overrides in sets to raw, in order, then
-// decodes and validates it.
-func configFromRaw(raw *Raw, sets []string) (*Config, error) {
+// FromRaw applies the overrides in sets to raw, in order, then
+// decodes and validates it. Errors are *InputError.
+func FromRaw(raw *Raw, sets []string) (*Config, error) {
 	for _, s := range sets {
 		if err := raw.Set(s); err != nil {
 			return nil, err
@@ -167,22 +165,41 @@ func configFromRaw(raw *Raw, sets []string) (*Config, error) {
 	return cfg, nil
 }
 
+// Raw returns the tree the config was decoded from, or nil for a Config
+// built in Go rather than read.
+func (c *Config) Raw() *Raw { return c.raw }
+
+// located returns the tree that locates c's keys in messages: the one it
+// was decoded from, or an empty one naming c.Source.
+func (c *Config) located() *Raw {
+	if c.raw != nil {
+		return c.raw
+	}
+	return &Raw{Name: c.Source, lines: map[string]int{}, sets: map[string]string{}}
+}
+
+// Errorf returns an InputError about key, located at its line in the
+// config file or at the --set override that gave it.
+func (c *Config) Errorf(key, format string, args ...any) *InputError {
+	return c.located().errAt(key, format, args...)
+}
+
 // LoadRaw reads and parses a config file (the embedded default when path
 // is "") without checking it.
 func LoadRaw(path string) (*Raw, error) {
 	if path == "" {
-		return ParseRaw(DefaultConfigName, ".", configs.Default())
+		return ParseRaw(DefaultName, ".", Default())
 	}
-	data, err := readInput(path, "config")
+	data, err := ReadInput(path, "config")
 	if err != nil {
 		return nil, err
 	}
 	return ParseRaw(path, filepath.Dir(path), data)
 }
 
-// readInput reads an input file; a failure is an InputError that says
+// ReadInput reads an input file; a failure is an InputError that says
 // what the file was for ("config", "sweep file").
-func readInput(path, what string) ([]byte, error) {
+func ReadInput(path, what string) ([]byte, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
 		msg := err.Error()
@@ -200,8 +217,9 @@ const (
 	minVoxels, maxVoxelsUI = 10, 1000
 	minVoxelUM, maxVoxelUM = 0.05, 20.0
 	minTempC, maxTempC     = -10.0, 95.0
-	maxUntilH              = 100000.0
-	minCorrUM, maxCorrUM   = 0.1, 1000.0
+	// MaxUntilH is the longest run a config may ask for, h (curing.until_h).
+	MaxUntilH            = 100000.0
+	minCorrUM, maxCorrUM = 0.1, 1000.0
 	// bytesPerVoxel is the memory a packed box takes: 1 byte of phase and
 	// 4 of particle id, and under 1 of working space.
 	bytesPerVoxel = 6
@@ -211,10 +229,7 @@ const (
 // oxides, rosin_rammler or table). Its errors name the key, its line and
 // the allowed range.
 func (c *Config) Validate() error {
-	r := c.raw
-	if r == nil {
-		r = &Raw{Name: c.Source, lines: map[string]int{}, sets: map[string]string{}}
-	}
+	r := c.located()
 	if c.Seed < 0 {
 		return r.errAt("seed", "%d: must be ≥ 0", c.Seed)
 	}
@@ -275,7 +290,7 @@ func (c *Config) Validate() error {
 		msg := fmt.Sprintf("%d: must be between %d and %d", c.Box.Voxels, minVoxels, limit)
 		if c.Box.Voxels > limit {
 			need := float64(c.Box.Voxels) * float64(c.Box.Voxels) * float64(c.Box.Voxels) * bytesPerVoxel
-			msg += fmt.Sprintf(" (a box of %d³ voxels needs about %.1f GB; %.1f GB of memory is available)", c.Box.Voxels, need/1e9, float64(availableBytes())/1e9)
+			msg += fmt.Sprintf(" (a box of %d³ voxels needs about %.1f GB; %.1f GB of memory is available)", c.Box.Voxels, need/1e9, float64(AvailableBytes())/1e9)
 		}
 		return r.errAt("box.voxels", "%s", msg)
 	}
@@ -293,8 +308,8 @@ func (c *Config) Validate() error {
 	if !(c.Curing.TemperatureC >= minTempC && c.Curing.TemperatureC <= maxTempC) {
 		return r.errAt("curing.temperature_c", "%g °C: must be between %g and %g", c.Curing.TemperatureC, minTempC, maxTempC)
 	}
-	if !(c.Curing.UntilH > 0 && c.Curing.UntilH <= maxUntilH) {
-		return r.errAt("curing.until_h", "%g h: must be > 0 and ≤ %g", c.Curing.UntilH, maxUntilH)
+	if !(c.Curing.UntilH > 0 && c.Curing.UntilH <= MaxUntilH) {
+		return r.errAt("curing.until_h", "%g h: must be > 0 and ≤ %g", c.Curing.UntilH, MaxUntilH)
 	}
 	// [output]
 	prev := 0.0
@@ -322,7 +337,7 @@ func (c *Config) Validate() error {
 			return r.errAt("output.diffusivity_times_h", "entry %d = %g h: must be one of output.times_h or curing.until_h", i+1, t)
 		}
 	}
-	if _, err := engineSettings(c); err != nil {
+	if _, err := c.EngineSettings(); err != nil {
 		return err
 	}
 	return nil
@@ -344,9 +359,9 @@ func keyOf(table string, err error, m map[string]float64) string {
 	return table
 }
 
-// availableBytes estimates the memory a box may use: MemAvailable from
+// AvailableBytes estimates the memory a box may use: MemAvailable from
 // /proc/meminfo, or 4 GB where that cannot be read.
-func availableBytes() int64 {
+func AvailableBytes() int64 {
 	data, err := os.ReadFile("/proc/meminfo")
 	if err == nil {
 		for _, line := range strings.Split(string(data), "\n") {
@@ -362,7 +377,7 @@ func availableBytes() int64 {
 // maxBoxVoxels is the largest box edge that fits in memory (and at most
 // maxVoxelsUI).
 func maxBoxVoxels() int {
-	n := int(math.Cbrt(float64(availableBytes()) / bytesPerVoxel))
+	n := int(math.Cbrt(float64(AvailableBytes()) / bytesPerVoxel))
 	return min(n, maxVoxelsUI)
 }
 

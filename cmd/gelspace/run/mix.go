@@ -1,20 +1,19 @@
-package main
+package run
 
 import (
 	"encoding/json"
-	"fmt"
 	"io"
 	"os"
 	"path/filepath"
-	"text/tabwriter"
 
+	"gelspace/configs"
 	"gelspace/kinetics"
 	"gelspace/voxel"
 )
 
 // Mix is a config resolved into chemistry and sizes.
 type Mix struct {
-	Cfg     *Config
+	Cfg     *configs.Config
 	Comp    *kinetics.Composition
 	Bogue   *kinetics.BoguePhases // nil when the phases were given
 	PSD     *voxel.PSD
@@ -28,35 +27,31 @@ type Mix struct {
 // Resolve turns a validated config into a Mix: the composition (Bogue
 // where oxides are given), the PSD (reading the table file) and its
 // digitisation for the box.
-func Resolve(cfg *Config) (*Mix, error) {
-	r := cfg.raw
-	if r == nil {
-		r = &Raw{Name: cfg.Source, lines: map[string]int{}, sets: map[string]string{}}
-	}
+func Resolve(cfg *configs.Config) (*Mix, error) {
 	m := &Mix{Cfg: cfg}
 	var err error
 	if cfg.Cement.Phases != nil {
 		if m.Comp, err = kinetics.NewComposition(cfg.Cement.Phases); err != nil {
-			return nil, r.errAt("cement.phases", "%v", err)
+			return nil, cfg.Errorf("cement.phases", "%v", err)
 		}
 	} else {
 		o, err := kinetics.OxidesFromMap(cfg.Cement.Oxides)
 		if err != nil {
-			return nil, r.errAt("cement.oxides", "%v", err)
+			return nil, cfg.Errorf("cement.oxides", "%v", err)
 		}
 		split, err := kinetics.SulfateSplitFromMap(cfg.Cement.Sulfate)
 		if err != nil {
-			return nil, r.errAt("cement.sulfate", "%v", err)
+			return nil, cfg.Errorf("cement.sulfate", "%v", err)
 		}
 		c, b, err := kinetics.CompositionFromOxides(o, split)
 		if err != nil {
-			return nil, r.errAt("cement.oxides", "%v", err)
+			return nil, cfg.Errorf("cement.oxides", "%v", err)
 		}
 		m.Comp, m.Bogue = c, &b
 	}
 	if rr := cfg.PSD.RosinRammler; rr != nil {
 		if m.PSD, err = voxel.RosinRammler(rr.XUM, rr.N); err != nil {
-			return nil, r.errAt("psd.rosin_rammler", "%v", err)
+			return nil, cfg.Errorf("psd.rosin_rammler", "%v", err)
 		}
 	} else {
 		path := cfg.PSD.Table
@@ -65,16 +60,16 @@ func Resolve(cfg *Config) (*Mix, error) {
 		}
 		f, err := os.Open(path)
 		if err != nil {
-			return nil, r.errAt("psd.table", "cannot read %s: %v", path, err)
+			return nil, cfg.Errorf("psd.table", "cannot read %s: %v", path, err)
 		}
 		m.PSD, err = voxel.ReadPSDTable(f)
 		f.Close()
 		if err != nil {
-			return nil, r.errAt("psd.table", "%s: %v", path, err)
+			return nil, cfg.Errorf("psd.table", "%s: %v", path, err)
 		}
 	}
 	if m.Classes, err = m.PSD.Classes(cfg.Box.VoxelUM, cfg.Box.Voxels); err != nil {
-		return nil, r.errAt("psd", "%v", err)
+		return nil, cfg.Errorf("psd", "%v", err)
 	}
 	m.SolidFraction = m.Comp.SolidVolumeFraction(cfg.Mix.WC)
 	m.Paste = m.Comp.PasteVolumeFractions(cfg.Mix.WC)
@@ -92,7 +87,7 @@ type MixReport struct {
 	Phases        []PhaseReport `json:"phases"`
 	Bogue         *BogueReport  `json:"bogue"`
 	PSD           PSDReport     `json:"psd"`
-	Box           BoxConfig     `json:"box"`
+	Box           configs.Box   `json:"box"`
 }
 
 // PhaseReport is one phase of the powder.
@@ -157,37 +152,9 @@ func (m *Mix) Report() MixReport {
 	return rep
 }
 
-// printMix writes the human form of the report.
-func printMix(w io.Writer, rep MixReport) {
-	fmt.Fprintf(w, "config   %s\n", rep.Source)
-	if rep.Cement != "" {
-		fmt.Fprintf(w, "cement   %s\n", rep.Cement)
-	}
-	fmt.Fprintf(w, "w/c      %g\ndensity  %.3f g/cm³ (powder)\nsolids   %.4f initial solid volume fraction\n\n", rep.WC, rep.DensityGPerCM, rep.SolidFraction)
-	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "phase\trole\tρ g/cm³\tmass %\tvolume %\tpaste vol %\t")
-	for _, p := range rep.Phases {
-		fmt.Fprintf(tw, "%s\t%s\t%.2f\t%.2f\t%.2f\t%.2f\t\n", p.Name, p.Role, p.DensityGPerCM3, p.MassPercent, p.VolumePercent, p.PastePercent)
-	}
-	fmt.Fprintf(tw, "water\tpore\t%.3f\t\t\t%.2f\t\n", kinetics.WaterDensity, 100*(1-rep.SolidFraction))
-	tw.Flush()
-	if b := rep.Bogue; b != nil {
-		branch := "A/F ≥ 0.64"
-		if b.SolidSolution {
-			branch = "A/F < 0.64, ferrite solid solution reported as C4AF"
-		}
-		fmt.Fprintf(w, "\nBogue (ASTM C150 Annex A1, %s), mass %% of cement: C3S %.1f  C2S %.1f  C3A %.1f  C4AF %.1f\n", branch, b.C3S, b.C2S, b.C3A, b.C4AF)
-	}
-	p := rep.PSD
-	fmt.Fprintf(w, "\nPSD      %s\n", p.Description)
-	fmt.Fprintf(w, "         d10 %.2f µm, d50 %.2f µm, d90 %.2f µm\n", p.D10UM, p.D50UM, p.D90UM)
-	fmt.Fprintf(w, "surface  %.0f m²/kg as smooth spheres, %.0f m²/kg digitised (voxel faces)\n", p.SurfaceSpheresM2PerKg, p.SurfaceVoxelM2PerKg)
-	fmt.Fprintf(w, "box      %d³ voxels of %g µm; particles 1 to %d voxels (≤ %g µm, half the edge)\n", rep.Box.Voxels, rep.Box.VoxelUM, p.MaxDiameterVoxels, p.MaxDiameterUM)
-	fmt.Fprintf(w, "fines    %.2f %% finer than one voxel, %s\n", 100*p.FinerThanVoxel, p.FineRepresentation)
-	fmt.Fprintf(w, "coarse   %.2f %% coarser than the largest particle, left out (the rest scaled up)\n", 100*p.Truncated)
-}
-
-func writeJSON(w io.Writer, v any) error {
+// WriteJSON writes v as indented JSON, the form of every JSON file and
+// --json output of gelspace.
+func WriteJSON(w io.Writer, v any) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)

@@ -1,25 +1,4 @@
-package main
-
-// Calibration of the kinetics to a measured isothermal calorimetry curve.
-//
-// The measured curve is cumulative heat (J/g of cement), heat flow (mW/g,
-// integrated here by the trapezoid rule into heat released since the first
-// row) or degree of hydration, against time_h. The model curve is the
-// engine's heat (or α) at the measured times, averaged over a few boxes
-// packed once each with fixed seeds; every evaluation hydrates clones of
-// the same packed grids, so the objective is a deterministic function of
-// the three multipliers. It is rough all the same: beyond a tiny step a
-// change of multipliers changes the random path of the events, which on a
-// 40³ box moves the curve about as much as halving or doubling the
-// nucleation multiplier does, so nucleation is poorly determined by a
-// calorimetry curve and fit.json's sensitivity says so. The misfit (fitTarget) weighs the features of the curve that the three
-// multipliers move apart: cumulative heat, log heat flow and the log times
-// at which the heat reaches fractions of its final value, on a log-spaced
-// time grid. Nelder–Mead (gonum/optimize) searches in log-multiplier space
-// from the config's values, one multiplier at a time first, then all the
-// free ones together, with a weak pull towards the start (fitPrior) that
-// keeps a poorly determined multiplier from wandering along a ridge with
-// another one. --fix holds multipliers the user knows.
+package fit
 
 import (
 	"encoding/csv"
@@ -35,26 +14,28 @@ import (
 
 	"gonum.org/v1/gonum/optimize"
 
+	"gelspace/cmd/gelspace/run"
+	"gelspace/configs"
 	"gelspace/voxel"
 )
 
 // Measured-curve kinds, by their column name.
 const (
-	kindHeat  = "heat_j_per_g"
-	kindFlow  = "heat_flow_mw_per_g"
-	kindAlpha = "alpha"
+	KindHeat  = "heat_j_per_g"
+	KindFlow  = "heat_flow_mw_per_g"
+	KindAlpha = "alpha"
 )
 
 // minMeasuredRows is the fewest rows a curve may have: three multipliers
 // need more than three numbers.
 const minMeasuredRows = 5
 
-// measuredCurve is a calorimetry curve ready to compare.
-type measuredCurve struct {
+// Measured is a calorimetry curve ready to compare.
+type Measured struct {
 	File  string
 	Kind  string    // kindHeat, kindFlow or kindAlpha, as read
 	TimeH []float64 // increasing, > 0
-	// Value is cumulative heat J/g (kindHeat; kindFlow integrated from the
+	// Value is cumulative heat J/g (KindHeat; KindFlow integrated from the
 	// first row, so its first value is 0) or α.
 	Value []float64
 	// FromFirst: compare heat released since the first row (flow data,
@@ -62,25 +43,27 @@ type measuredCurve struct {
 	FromFirst bool
 }
 
-// readMeasured reads a measured curve (CSV with a header row; lines
-// starting with # are comments). Errors are *InputError naming the file
+// ReadMeasured reads a measured curve (CSV with a header row; lines
+// starting with # are comments). Errors are *configs.InputError naming the file
 // and the line.
-func readMeasured(path string) (*measuredCurve, error) {
+func ReadMeasured(path string) (*Measured, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		msg := err.Error()
 		if errors.Is(err, os.ErrNotExist) {
 			msg = "no such file"
 		}
-		return nil, &InputError{File: path, Msg: "cannot read measured curve: " + msg}
+		return nil, &configs.InputError{File: path, Msg: "cannot read measured curve: " + msg}
 	}
 	defer f.Close()
-	return parseMeasured(path, f)
+	return ParseMeasured(path, f)
 }
 
-func parseMeasured(name string, r io.Reader) (*measuredCurve, error) {
+// ParseMeasured reads a measured curve from r, as ReadMeasured does;
+// name is the file name for messages.
+func ParseMeasured(name string, r io.Reader) (*Measured, error) {
 	bad := func(line int, format string, args ...any) error {
-		return &InputError{File: name, Line: line, Msg: fmt.Sprintf(format, args...)}
+		return &configs.InputError{File: name, Line: line, Msg: fmt.Sprintf(format, args...)}
 	}
 	cr := csv.NewReader(r)
 	cr.Comment = '#'
@@ -88,24 +71,24 @@ func parseMeasured(name string, r io.Reader) (*measuredCurve, error) {
 	cr.FieldsPerRecord = -1
 	head, err := cr.Read()
 	if err != nil {
-		return nil, bad(0, "no header row: want time_h and one of %s, %s, %s", kindHeat, kindFlow, kindAlpha)
+		return nil, bad(0, "no header row: want time_h and one of %s, %s, %s", KindHeat, KindFlow, KindAlpha)
 	}
 	headLine, _ := cr.FieldPos(0)
 	ti, vi := -1, -1
-	c := &measuredCurve{File: name}
+	c := &Measured{File: name}
 	cols := map[string]int{}
 	for i, h := range head {
 		cols[strings.TrimSpace(strings.ToLower(h))] = i
 	}
 	ti, okT := cols["time_h"]
-	for _, k := range []string{kindHeat, kindAlpha, kindFlow} {
+	for _, k := range []string{KindHeat, KindAlpha, KindFlow} {
 		if i, ok := cols[k]; ok {
 			vi, c.Kind = i, k
 			break
 		}
 	}
 	if !okT || vi < 0 {
-		return nil, bad(headLine, "header %q: want time_h and one of %s (cumulative, J/g), %s (mW/g) or %s (degree of hydration)", strings.Join(head, ","), kindHeat, kindFlow, kindAlpha)
+		return nil, bad(headLine, "header %q: want time_h and one of %s (cumulative, J/g), %s (mW/g) or %s (degree of hydration)", strings.Join(head, ","), KindHeat, KindFlow, KindAlpha)
 	}
 	var raw []float64
 	for {
@@ -125,28 +108,28 @@ func parseMeasured(name string, r io.Reader) (*measuredCurve, error) {
 		if err1 != nil || err2 != nil || math.IsNaN(t) || math.IsNaN(v) || math.IsInf(t, 0) || math.IsInf(v, 0) {
 			return nil, bad(line, "time_h and %s must be numbers", c.Kind)
 		}
-		if !(t > 0) || t > maxUntilH {
-			return nil, bad(line, "time_h = %g: must be > 0 and ≤ %g", t, maxUntilH)
+		if !(t > 0) || t > configs.MaxUntilH {
+			return nil, bad(line, "time_h = %g: must be > 0 and ≤ %g", t, configs.MaxUntilH)
 		}
 		if n := len(c.TimeH); n > 0 && t <= c.TimeH[n-1] {
 			return nil, bad(line, "time_h = %g after %g: times must increase from row to row", t, c.TimeH[n-1])
 		}
 		switch c.Kind {
-		case kindAlpha:
+		case KindAlpha:
 			if v < 0 || v > 1 {
 				return nil, bad(line, "alpha = %g: must be between 0 and 1", v)
 			}
-		case kindHeat:
+		case KindHeat:
 			if v < 0 || v > 2000 {
 				return nil, bad(line, "heat_j_per_g = %g: must be between 0 and 2000 J/g", v)
 			}
-		case kindFlow:
+		case KindFlow:
 			if v < -50 || v > 1000 {
 				return nil, bad(line, "heat_flow_mw_per_g = %g: must be between -50 and 1000 mW/g", v)
 			}
 		}
-		if n := len(raw); n > 0 && c.Kind != kindFlow && v < raw[n-1] {
-			return nil, bad(line, "%s = %g after %g: a cumulative curve must not decrease (give heat flow as %s)", c.Kind, v, raw[n-1], kindFlow)
+		if n := len(raw); n > 0 && c.Kind != KindFlow && v < raw[n-1] {
+			return nil, bad(line, "%s = %g after %g: a cumulative curve must not decrease (give heat flow as %s)", c.Kind, v, raw[n-1], KindFlow)
 		}
 		c.TimeH = append(c.TimeH, t)
 		raw = append(raw, v)
@@ -154,10 +137,10 @@ func parseMeasured(name string, r io.Reader) (*measuredCurve, error) {
 	if len(raw) < minMeasuredRows {
 		return nil, bad(0, "%d rows: a fit of three multipliers needs at least %d", len(raw), minMeasuredRows)
 	}
-	if raw[len(raw)-1] <= 0 && c.Kind != kindFlow {
+	if raw[len(raw)-1] <= 0 && c.Kind != KindFlow {
 		return nil, bad(0, "%s is zero throughout: nothing to fit", c.Kind)
 	}
-	if c.Kind == kindFlow {
+	if c.Kind == KindFlow {
 		// mW/g × h → J/g: 1 mW/g for 1 h is 3.6 J/g.
 		c.FromFirst = true
 		c.Value = make([]float64, len(raw))
@@ -177,33 +160,34 @@ func parseMeasured(name string, r io.Reader) (*measuredCurve, error) {
 // kinetics.nucleation_scale and kinetics.through_product_scale.
 type Multipliers [3]float64
 
-var multiplierKeys = [3]string{"dissolution_scale", "nucleation_scale", "through_product_scale"}
+// MultiplierKeys are the [kinetics] keys of the Multipliers, in order.
+var MultiplierKeys = [3]string{"dissolution_scale", "nucleation_scale", "through_product_scale"}
 
 // Limits of the search: every multiplier within a factor of fitRange of
 // the config's value.
 const fitRange = 30.0
 
-// fitModel hydrates fixed packed boxes with trial multipliers.
-type fitModel struct {
-	cfg   *Config
+// Model hydrates fixed packed boxes with trial multipliers.
+type Model struct {
+	cfg   *configs.Config
 	grids []*voxel.Grid // packed once per seed; cloned per evaluation
 	seeds []int64
 	times []float64
 	alpha bool // compare α, not heat
 }
 
-// newFitModel packs one box per seed (cfg.Seed, cfg.Seed+1, …) for the
+// NewModel packs one box per seed (cfg.Seed, cfg.Seed+1, …) for the
 // times of the measured curve.
-func newFitModel(cfg *Config, seeds int, times []float64, alpha bool) (*fitModel, error) {
-	m := &fitModel{cfg: cfg, times: times, alpha: alpha}
+func NewModel(cfg *configs.Config, seeds int, times []float64, alpha bool) (*Model, error) {
+	m := &Model{cfg: cfg, times: times, alpha: alpha}
 	for k := range seeds {
 		c := *cfg
 		c.Seed = cfg.Seed + int64(k)
-		mix, err := Resolve(&c)
+		mix, err := run.Resolve(&c)
 		if err != nil {
 			return nil, err
 		}
-		res, err := packMix(mix)
+		res, err := run.Pack(mix)
 		if err != nil {
 			return nil, err
 		}
@@ -215,7 +199,7 @@ func newFitModel(cfg *Config, seeds int, times []float64, alpha bool) (*fitModel
 
 // curve returns the model's heat (J/g) or α at the measured times with
 // multipliers x, averaged over the seeds (run side by side).
-func (m *fitModel) curve(x Multipliers) ([]float64, error) {
+func (m *Model) Curve(x Multipliers) ([]float64, error) {
 	c := *m.cfg
 	c.Kinetics.DissolutionScale, c.Kinetics.NucleationScale, c.Kinetics.ThroughProductScale = x[0], x[1], x[2]
 	out := make([][]float64, len(m.grids))
@@ -227,7 +211,7 @@ func (m *fitModel) curve(x Multipliers) ([]float64, error) {
 			defer wg.Done()
 			cs := c
 			cs.Seed = m.seeds[k]
-			set, err := engineSettings(&cs)
+			set, err := cs.EngineSettings()
 			if err != nil {
 				errs[k] = err
 				return
@@ -300,7 +284,7 @@ var fitFractions = [6]float64{0.02, 0.05, 0.10, 0.25, 0.50, 0.75}
 
 // fitTarget is a measured curve prepared for the misfit.
 type fitTarget struct {
-	c     *measuredCurve
+	c     *Measured
 	gridH []float64 // comparison times, h
 	q     []float64 // measured Q on the grid
 	end   float64   // measured Q at the last row (> 0)
@@ -322,7 +306,7 @@ func (p misfitParts) Total() float64 {
 }
 
 // newFitTarget builds the comparison grid and the measured terms.
-func newFitTarget(c *measuredCurve) *fitTarget {
+func newFitTarget(c *Measured) *fitTarget {
 	n := len(c.TimeH)
 	t0, t1 := math.Max(fitGridStartH, c.TimeH[0]), c.TimeH[n-1]
 	if t0 >= t1 {
@@ -445,8 +429,8 @@ func (ft *fitTarget) misfitParts(model []float64) misfitParts {
 // misfit is misfitParts(model).Total().
 func (ft *fitTarget) misfit(model []float64) float64 { return ft.misfitParts(model).Total() }
 
-// FitResult is fit.json.
-type FitResult struct {
+// Result is fit.json.
+type Result struct {
 	Version  string  `json:"version"`
 	Caution  string  `json:"caution"`
 	Measured string  `json:"measured"`
@@ -469,7 +453,7 @@ type FitResult struct {
 	Misfit      float64            `json:"misfit"`
 	MisfitParts map[string]float64 `json:"misfit_parts"`
 	GridPoints  int                `json:"grid_points"`
-	// PriorWeight is fitSettings.Prior of the search.
+	// PriorWeight is Settings.Prior of the search.
 	PriorWeight float64 `json:"prior_weight"`
 	RMS         float64 `json:"rms"`
 	RMSUnit     string  `json:"rms_unit"`
@@ -490,8 +474,8 @@ type FitResult struct {
 	FittedValue   []float64             `json:"fitted_value"`
 }
 
-// fitSettings steer fitKinetics.
-type fitSettings struct {
+// Settings steer fitKinetics.
+type Settings struct {
 	MaxEvals int     // function evaluations at most (each hydrates every seed)
 	Simplex  float64 // initial simplex size in log space
 	Tol      float64 // stop when the best misfit improves by less than this over a few iterations
@@ -508,12 +492,12 @@ type fitSettings struct {
 	Prior float64
 }
 
-// fitPrior is gelspace fit's fitSettings.Prior: a factor of 2 away from
+// DefaultPrior is gelspace fit's Settings.Prior: a factor of 2 away from
 // the start costs what a misfit of 0.07 does.
-const fitPrior = 0.01
+const DefaultPrior = 0.01
 
 // objective is the searched function at log-multipliers lx with misfit f.
-func (s fitSettings) objective(f float64, lx []float64) float64 {
+func (s Settings) objective(f float64, lx []float64) float64 {
 	var p float64
 	for _, v := range lx {
 		p += v * v
@@ -525,7 +509,7 @@ func (s fitSettings) objective(f float64, lx []float64) float64 {
 // with Nelder–Mead, from start. It returns the best multipliers, their
 // misfit, the misfit at the start, the evaluation count and gonum's
 // termination status of the last search.
-func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (best Multipliers, fbest, fstart float64, evals int, status string, err error) {
+func fitKinetics(m *Model, ft *fitTarget, start Multipliers, s Settings) (best Multipliers, fbest, fstart float64, evals int, status string, err error) {
 	var evalErr error
 	lim := math.Log(fitRange)
 	full := func(lx []float64) float64 {
@@ -537,7 +521,7 @@ func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (
 			x[i] = start[i] * math.Exp(lx[i])
 		}
 		evals++
-		v, err := m.curve(x)
+		v, err := m.Curve(x)
 		if err != nil {
 			if evalErr == nil {
 				evalErr = err
@@ -623,7 +607,7 @@ func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (
 	for i := range best {
 		best[i] = start[i] * math.Exp(cur[i])
 	}
-	v, err := m.curve(best)
+	v, err := m.Curve(best)
 	if err != nil {
 		return best, 0, 0, evals, "", err
 	}
@@ -632,13 +616,13 @@ func fitKinetics(m *fitModel, ft *fitTarget, start Multipliers, s fitSettings) (
 
 // sensitivity returns the misfit with each multiplier alone set to 0.8
 // and 1.25 times its value in best.
-func sensitivity(m *fitModel, ft *fitTarget, best Multipliers) ([3][2]float64, error) {
+func sensitivity(m *Model, ft *fitTarget, best Multipliers) ([3][2]float64, error) {
 	var out [3][2]float64
 	for i := range best {
 		for j, f := range []float64{0.8, 1.25} {
 			x := best
 			x[i] *= f
-			v, err := m.curve(x)
+			v, err := m.Curve(x)
 			if err != nil {
 				return out, err
 			}

@@ -1,4 +1,4 @@
-package main
+package run
 
 import (
 	"bytes"
@@ -7,6 +7,7 @@ import (
 	"math"
 	"sort"
 
+	"gelspace/configs"
 	"gelspace/kinetics"
 	"gelspace/percolation"
 	"gelspace/voxel"
@@ -19,7 +20,7 @@ import (
 // saved engine states.
 
 // Column names of series.csv and samples.csv, before the vol_<phase>
-// columns (DESIGN.md contract).
+// columns (a stable interface: scripts read them by name).
 var seriesHead = []string{"time_h", "temperature_c", "alpha", "alpha_c3s", "alpha_c2s", "alpha_c3a", "alpha_c4af",
 	"heat_j_per_g", "heat_flow_mw_per_g", "chem_shrinkage_ml_per_g", "water_consumed_g_per_g",
 	"nonevaporable_water_g_per_g", "capillary_porosity", "water_filled_porosity",
@@ -58,8 +59,8 @@ func seriesColumns() []string {
 	return cols
 }
 
-// transition is a refined event: the set point or depercolation.
-type transition struct {
+// Transition is a refined event: the set point or depercolation.
+type Transition struct {
 	TimeH    float64 `json:"time_h"`
 	Alpha    float64 `json:"alpha"`
 	Porosity float64 `json:"capillary_porosity"`
@@ -74,8 +75,8 @@ type runState struct {
 	Frames   [][]byte    // mid xy plane at each output age
 	Diff     [][3]float64
 	DiffAt   []float64
-	Set      *transition
-	Deperc   *transition
+	Set      *Transition
+	Deperc   *Transition
 	PrevSnap []byte // engine at the last output age, while an event is pending
 	PrevH    float64
 	WallS    float64
@@ -109,7 +110,7 @@ func schedule(untilH, sampleEvery float64, outputs []float64) (ages []float64, i
 
 // hydration runs one paste.
 type hydration struct {
-	cfg   *Config
+	cfg   *configs.Config
 	set   voxel.EngineSettings
 	e     *voxel.Engine
 	ages  []float64
@@ -125,7 +126,7 @@ type hydration struct {
 	box     percolation.Box
 }
 
-func newHydration(cfg *Config, set voxel.EngineSettings, e *voxel.Engine) *hydration {
+func newHydration(cfg *configs.Config, set voxel.EngineSettings, e *voxel.Engine) *hydration {
 	h := &hydration{cfg: cfg, set: set, e: e}
 	h.ages, h.isOut = schedule(cfg.Curing.UntilH, cfg.Output.SampleEveryH, cfg.Output.TimesH)
 	h.diffT = map[float64]bool{}
@@ -189,10 +190,10 @@ func isDepercolated(c percolation.Connectivity) bool { return c.SpanAxes == 0 }
 // refine finds by bisection, between the last output age (h.prev) and
 // hi, the first age at which test holds, to within 1 % of hi or 0.05 h.
 // Replays from a saved state follow the run exactly.
-func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*transition, error) {
+func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*Transition, error) {
 	lo := h.st.PrevH
 	base := h.prev
-	var best *transition
+	var best *Transition
 	for hi-lo > math.Max(0.05, 0.01*hi) {
 		mid := 0.5 * (lo + hi)
 		e := base.Clone()
@@ -201,7 +202,7 @@ func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*transiti
 		}
 		if test(e.Grid()) {
 			hi = mid
-			best = &transition{TimeH: mid, Alpha: e.Alpha(), Porosity: capPor(e)}
+			best = &Transition{TimeH: mid, Alpha: e.Alpha(), Porosity: capPor(e)}
 		} else {
 			lo = mid
 			base = e
@@ -273,7 +274,7 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 			return err
 		}
 		if tr == nil {
-			tr = &transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
+			tr = &Transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
 		}
 		h.st.Set = tr
 	}
@@ -283,7 +284,7 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 			return err
 		}
 		if tr == nil {
-			tr = &transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
+			tr = &Transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
 		}
 		h.st.Deperc = tr
 	}

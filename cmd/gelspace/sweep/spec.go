@@ -1,14 +1,4 @@
-package main
-
-// Sweep files and the points they span.
-//
-// A sweep file names a base run config, replicates (seeds per point) and
-// axes: any config key with a list of values or a range { from, to, step }
-// (inclusive). The axes of [axes] cross; the axes of [zip] vary together
-// (equal lengths) and count as one dimension. The points are numbered in
-// row-major order of the dimensions as they appear in the file (the first
-// dimension varies slowest), and each point has one folder per replicate,
-// points/pNNNN_rR, with seed = base seed + R.
+package sweep
 
 import (
 	"bytes"
@@ -24,6 +14,9 @@ import (
 	"strings"
 
 	"github.com/BurntSushi/toml"
+
+	"gelspace/cmd/gelspace/run"
+	"gelspace/configs"
 )
 
 // Limits of a sweep file.
@@ -33,8 +26,8 @@ const (
 	maxAxisValues      = 10000
 )
 
-// sweepAxis is one swept config key.
-type sweepAxis struct {
+// Axis is one swept config key.
+type Axis struct {
 	Key    string    // dotted config key
 	Line   int       // line in the sweep file
 	Table  string    // "axes" or "zip"
@@ -43,30 +36,30 @@ type sweepAxis struct {
 	Num    []float64 // the values as numbers (NaN where not numeric)
 }
 
-// sweepSpec is a parsed sweep file.
-type sweepSpec struct {
+// Spec is a parsed sweep file.
+type Spec struct {
 	File       string // the sweep file, for messages
 	Name       string // optional label
 	Base       string // the base config path (absolute), "" for the embedded default
 	Replicates int
-	Axes       []*sweepAxis // in column order: file order
+	Axes       []*Axis // in column order: file order
 	// Fixed are the [set] keys: one value for every point.
-	Fixed []sweepFixed
+	Fixed []Fixed
 	// Dims lists, per dimension, the indices into Axes that vary with it
 	// (one for a crossed axis, several for the zip group).
 	Dims [][]int
 }
 
-// sweepFixed is a key of [set]: a value given to every point.
-type sweepFixed struct {
+// Fixed is a key of [set]: a value given to every point.
+type Fixed struct {
 	Key   string
 	Line  int
 	Value any
 }
 
-// sweepPoint is one run of a sweep: a combination of axis values and a
+// Point is one run of a sweep: a combination of axis values and a
 // replicate.
-type sweepPoint struct {
+type Point struct {
 	Name      string // pNNNN_rR, the folder under points/
 	Point     int    // index of the axis combination
 	Replicate int    // 0, 1, …
@@ -79,13 +72,13 @@ type sweepPoint struct {
 // the completion marker holds it.
 func configHash(config []byte) string {
 	h := sha256.New()
-	h.Write([]byte("gelspace " + version + "\n"))
+	h.Write([]byte("gelspace " + run.Version + "\n"))
 	h.Write(config)
 	return hex.EncodeToString(h.Sum(nil))
 }
 
 // NumPoints is the number of axis combinations.
-func (s *sweepSpec) NumPoints() int {
+func (s *Spec) NumPoints() int {
 	n := 1
 	for _, d := range s.Dims {
 		n *= len(s.Axes[d[0]].Values)
@@ -95,7 +88,7 @@ func (s *sweepSpec) NumPoints() int {
 
 // valueIndices returns, for axis combination p, the value index of every
 // axis (row-major, first dimension slowest).
-func (s *sweepSpec) valueIndices(p int) []int {
+func (s *Spec) valueIndices(p int) []int {
 	idx := make([]int, len(s.Axes))
 	for d := len(s.Dims) - 1; d >= 0; d-- {
 		n := len(s.Axes[s.Dims[d][0]].Values)
@@ -108,30 +101,30 @@ func (s *sweepSpec) valueIndices(p int) []int {
 	return idx
 }
 
-// LoadSweep reads and checks a sweep file. Errors are *InputError naming
+// Load reads and checks a sweep file. Errors are *configs.InputError naming
 // the file, the line and the key.
-func LoadSweep(path string) (*sweepSpec, error) {
-	data, err := readInput(path, "sweep file")
+func Load(path string) (*Spec, error) {
+	data, err := configs.ReadInput(path, "sweep file")
 	if err != nil {
 		return nil, err
 	}
-	return ParseSweep(path, data)
+	return Parse(path, data)
 }
 
-// ParseSweep parses the text of a sweep file named path (relative paths in
+// Parse parses the text of a sweep file named path (relative paths in
 // it are read from path's folder).
-func ParseSweep(path string, data []byte) (*sweepSpec, error) {
+func Parse(path string, data []byte) (*Spec, error) {
 	tree := map[string]any{}
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(&tree)
 	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
-			return nil, &InputError{File: path, Line: pe.Position.Line, Msg: "malformed TOML: " + pe.Message}
+			return nil, &configs.InputError{File: path, Line: pe.Position.Line, Msg: "malformed TOML: " + pe.Message}
 		}
-		return nil, &InputError{File: path, Msg: "malformed TOML: " + err.Error()}
+		return nil, &configs.InputError{File: path, Msg: "malformed TOML: " + err.Error()}
 	}
-	lines := keyLines(data)
-	at := func(key, format string, args ...any) *InputError {
+	lines := configs.KeyLines(data)
+	at := func(key, format string, args ...any) *configs.InputError {
 		l := 0
 		for k := key; k != ""; {
 			if n, ok := lines[k]; ok {
@@ -144,9 +137,9 @@ func ParseSweep(path string, data []byte) (*sweepSpec, error) {
 			}
 			k = k[:i]
 		}
-		return &InputError{File: path, Line: l, Key: key, Msg: fmt.Sprintf(format, args...)}
+		return &configs.InputError{File: path, Line: l, Key: key, Msg: fmt.Sprintf(format, args...)}
 	}
-	s := &sweepSpec{File: path, Replicates: 1}
+	s := &Spec{File: path, Replicates: 1}
 	zipDim := -1
 	for _, k := range md.Keys() {
 		switch {
@@ -187,7 +180,7 @@ func ParseSweep(path string, data []byte) (*sweepSpec, error) {
 			if k[1] == "" || strings.Contains(k[1], "..") || strings.HasPrefix(k[1], ".") || strings.HasSuffix(k[1], ".") {
 				return nil, at("set."+k[1], "must be a dotted config key such as \"box.voxels\"")
 			}
-			s.Fixed = append(s.Fixed, sweepFixed{Key: k[1], Line: lines["set."+k[1]], Value: tree["set"].(map[string]any)[k[1]]})
+			s.Fixed = append(s.Fixed, Fixed{Key: k[1], Line: lines["set."+k[1]], Value: tree["set"].(map[string]any)[k[1]]})
 		case len(k) > 2 && k[0] == "set":
 			// keys of an inline-table value
 		case len(k) == 2 && (k[0] == "axes" || k[0] == "zip"):
@@ -205,7 +198,7 @@ func ParseSweep(path string, data []byte) (*sweepSpec, error) {
 			if err != nil {
 				return nil, at(lineKey, "%v", err)
 			}
-			a := &sweepAxis{Key: key, Line: lines[lineKey], Table: k[0], Values: vals}
+			a := &Axis{Key: key, Line: lines[lineKey], Table: k[0], Values: vals}
 			for _, v := range vals {
 				a.Text = append(a.Text, valueText(v))
 				a.Num = append(a.Num, valueNum(v))
@@ -233,10 +226,10 @@ func ParseSweep(path string, data []byte) (*sweepSpec, error) {
 		}
 	}
 	if len(s.Axes) == 0 && s.Replicates == 1 {
-		return nil, &InputError{File: path, Key: "axes", Msg: "nothing to sweep: give [axes] (config keys with lists or ranges) or replicates > 1"}
+		return nil, &configs.InputError{File: path, Key: "axes", Msg: "nothing to sweep: give [axes] (config keys with lists or ranges) or replicates > 1"}
 	}
 	if n := s.NumPoints() * s.Replicates; n > maxSweepPoints || n <= 0 {
-		return nil, &InputError{File: path, Key: "axes", Msg: fmt.Sprintf("the sweep has %d runs (points × replicates): at most %d", n, maxSweepPoints)}
+		return nil, &configs.InputError{File: path, Key: "axes", Msg: fmt.Sprintf("the sweep has %d runs (points × replicates): at most %d", n, maxSweepPoints)}
 	}
 	return s, nil
 }
@@ -380,35 +373,10 @@ func inlineTOML(v any) string {
 	return fmt.Sprint(v)
 }
 
-// deepCopy copies a TOML tree so a point's edits do not reach the base.
-func deepCopy(v any) any {
-	switch v := v.(type) {
-	case map[string]any:
-		m := make(map[string]any, len(v))
-		for k, x := range v {
-			m[k] = deepCopy(x)
-		}
-		return m
-	case []any:
-		s := make([]any, len(v))
-		for i, x := range v {
-			s[i] = deepCopy(x)
-		}
-		return s
-	case []map[string]any:
-		s := make([]map[string]any, len(v))
-		for i, x := range v {
-			s[i] = deepCopy(x).(map[string]any)
-		}
-		return s
-	}
-	return v
-}
-
 // setValue puts v at dotted key in r's tree, as --set does, and records it
 // so that messages about the key point at the sweep (see pointError).
-func setValue(r *Raw, key string, v any) error {
-	return r.put(key, deepCopy(v), key+"="+inlineTOML(v), r.Name)
+func setValue(r *configs.Raw, key string, v any) error {
+	return r.Put(key, configs.DeepCopy(v), key+"="+inlineTOML(v), r.Name)
 }
 
 // Points resolves every point of the sweep against the base config (with
@@ -416,11 +384,11 @@ func setValue(r *Raw, key string, v any) error {
 // gelspace run would. Relative file paths of the base (psd.table,
 // curing.schedule) become absolute so each point's config.toml runs from
 // its own folder.
-func (s *sweepSpec) Points(sets []string) ([]sweepPoint, error) {
+func (s *Spec) Points(sets []string) ([]Point, error) {
 	var baseData []byte
-	baseName, baseDir := DefaultConfigName, "."
+	baseName, baseDir := configs.DefaultName, "."
 	if s.Base == "" {
-		r, err := LoadRaw("")
+		r, err := configs.LoadRaw("")
 		if err != nil {
 			return nil, err
 		}
@@ -430,11 +398,11 @@ func (s *sweepSpec) Points(sets []string) ([]sweepPoint, error) {
 	} else {
 		data, err := os.ReadFile(s.Base)
 		if err != nil {
-			return nil, &InputError{File: s.File, Key: "base", Msg: fmt.Sprintf("cannot read the base config %s: %v", s.Base, err)}
+			return nil, &configs.InputError{File: s.File, Key: "base", Msg: fmt.Sprintf("cannot read the base config %s: %v", s.Base, err)}
 		}
 		baseData, baseName, baseDir = data, s.Base, filepath.Dir(s.Base)
 	}
-	base, err := ParseRaw(baseName, baseDir, baseData)
+	base, err := configs.ParseRaw(baseName, baseDir, baseData)
 	if err != nil {
 		return nil, err
 	}
@@ -453,14 +421,11 @@ func (s *sweepSpec) Points(sets []string) ([]sweepPoint, error) {
 	}
 	np := s.NumPoints()
 	width := max(4, len(strconv.Itoa(np-1)))
-	var out []sweepPoint
+	var out []Point
 	for p := range np {
 		idx := s.valueIndices(p)
 		for rep := range s.Replicates {
-			r := &Raw{Name: base.Name, Dir: base.Dir, Tree: deepCopy(base.Tree).(map[string]any), lines: base.lines, sets: map[string]string{}}
-			for k, v := range base.sets {
-				r.sets[k] = v
-			}
+			r := base.Clone()
 			for ai, a := range s.Axes {
 				if err := setValue(r, a.Key, a.Values[idx[ai]]); err != nil {
 					return nil, s.pointError(err, p, idx)
@@ -501,7 +466,7 @@ func (s *sweepSpec) Points(sets []string) ([]sweepPoint, error) {
 			}
 			b.WriteString("\n# Written by gelspace sweep; edits make the point run again.\n")
 			b.Write(text)
-			out = append(out, sweepPoint{Name: name, Point: p, Replicate: rep, Seed: seed, Values: idx, Config: b.Bytes()})
+			out = append(out, Point{Name: name, Point: p, Replicate: rep, Seed: seed, Values: idx, Config: b.Bytes()})
 		}
 	}
 	return out, nil
@@ -509,8 +474,8 @@ func (s *sweepSpec) Points(sets []string) ([]sweepPoint, error) {
 
 // pointError places a config error that a swept value caused at the
 // axis's line in the sweep file, naming the point's values.
-func (s *sweepSpec) pointError(err error, p int, idx []int) error {
-	var ie *InputError
+func (s *Spec) pointError(err error, p int, idx []int) error {
+	var ie *configs.InputError
 	if !errors.As(err, &ie) {
 		return err
 	}
@@ -529,15 +494,15 @@ func (s *sweepSpec) pointError(err error, p int, idx []int) error {
 		key, _, _ := strings.Cut(kv, "=")
 		for _, a := range s.Axes {
 			if a.Key == key {
-				return &InputError{File: s.File, Line: a.Line, Key: ie.Key, Msg: ie.Msg + where}
+				return &configs.InputError{File: s.File, Line: a.Line, Key: ie.Key, Msg: ie.Msg + where}
 			}
 		}
 		for _, f := range s.Fixed {
 			if f.Key == key {
-				return &InputError{File: s.File, Line: f.Line, Key: ie.Key, Msg: ie.Msg + " (from [set])"}
+				return &configs.InputError{File: s.File, Line: f.Line, Key: ie.Key, Msg: ie.Msg + " (from [set])"}
 			}
 		}
 		return ie
 	}
-	return &InputError{File: ie.File, Line: ie.Line, Key: ie.Key, Msg: ie.Msg + where}
+	return &configs.InputError{File: ie.File, Line: ie.Line, Key: ie.Key, Msg: ie.Msg + where}
 }

@@ -1,12 +1,4 @@
-package main
-
-// Sweep summaries: summary.csv (one row per point and replicate),
-// summary_stats.csv (per point: count, mean, standard deviation and 95 %
-// confidence interval over the replicates) and plots/ (each output against
-// the first swept axis, one line per value of the other axes, error bars =
-// the 95 % interval). They are built from the point folders alone, in
-// point order, so gelspace sweep and gelspace sweep collect write the same
-// files whatever the number of jobs or the order the points finished in.
+package sweep
 
 import (
 	"bytes"
@@ -28,32 +20,37 @@ import (
 	"gonum.org/v1/plot/plotutil"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"gelspace/cmd/gelspace/run"
+	"gelspace/configs"
+	"gelspace/render"
 )
 
-// sweepOutput is one result column of the summaries.
-type sweepOutput struct {
+// Output is one result column of the summaries.
+type Output struct {
 	Name  string // column name (units in the name)
 	Label string // axis label
-	get   func(s *RunSummary) float64
+	get   func(s *run.Summary) float64
 }
 
 // Ages (days) of the α and heat columns.
 var sweepAgesD = []float64{1, 3, 7, 28}
 
-func sweepOutputs() []sweepOutput {
+// Outputs lists the result columns of the summaries, in order.
+func Outputs() []Output {
 	opt := func(p *float64) float64 {
 		if p == nil {
 			return math.NaN()
 		}
 		return *p
 	}
-	outs := []sweepOutput{
-		{"set_time_h", "set time, h", func(s *RunSummary) float64 { return opt(s.SetTimeH) }},
-		{"set_alpha", "degree of hydration at set", func(s *RunSummary) float64 { return opt(s.SetAlpha) }},
-		{"depercolation_time_h", "capillary-pore depercolation time, h", func(s *RunSummary) float64 { return opt(s.DepercolationTimeH) }},
+	outs := []Output{
+		{"set_time_h", "set time, h", func(s *run.Summary) float64 { return opt(s.SetTimeH) }},
+		{"set_alpha", "degree of hydration at set", func(s *run.Summary) float64 { return opt(s.SetAlpha) }},
+		{"depercolation_time_h", "capillary-pore depercolation time, h", func(s *run.Summary) float64 { return opt(s.DepercolationTimeH) }},
 	}
 	for _, d := range sweepAgesD {
-		at := func(s *RunSummary) *AgeValues {
+		at := func(s *run.Summary) *run.AgeValues {
 			for i := range s.AtAge {
 				if math.Abs(s.AtAge[i].Days-d) < 1e-6 {
 					return &s.AtAge[i]
@@ -62,13 +59,13 @@ func sweepOutputs() []sweepOutput {
 			return nil
 		}
 		outs = append(outs,
-			sweepOutput{fmt.Sprintf("alpha_%gd", d), fmt.Sprintf("degree of hydration at %g d", d), func(s *RunSummary) float64 {
+			Output{fmt.Sprintf("alpha_%gd", d), fmt.Sprintf("degree of hydration at %g d", d), func(s *run.Summary) float64 {
 				if a := at(s); a != nil {
 					return a.Alpha
 				}
 				return math.NaN()
 			}},
-			sweepOutput{fmt.Sprintf("heat_j_per_g_%gd", d), fmt.Sprintf("heat at %g d, J/g", d), func(s *RunSummary) float64 {
+			Output{fmt.Sprintf("heat_j_per_g_%gd", d), fmt.Sprintf("heat at %g d, J/g", d), func(s *run.Summary) float64 {
 				if a := at(s); a != nil {
 					return a.HeatJPerG
 				}
@@ -76,8 +73,8 @@ func sweepOutputs() []sweepOutput {
 			}})
 	}
 	outs = append(outs,
-		sweepOutput{"capillary_porosity_final", "capillary porosity at the end", func(s *RunSummary) float64 { return s.Final.CapillaryPorosity }},
-		sweepOutput{"rel_diffusivity_final", "D/D0 at the end (mean of x, y, z)", func(s *RunSummary) float64 {
+		Output{"capillary_porosity_final", "capillary porosity at the end", func(s *run.Summary) float64 { return s.Final.CapillaryPorosity }},
+		Output{"rel_diffusivity_final", "D/D0 at the end (mean of x, y, z)", func(s *run.Summary) float64 {
 			for _, d := range s.RelDiffusivity {
 				if math.Abs(d.TimeH-s.Final.TimeH) < 1e-9 {
 					return (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
@@ -90,28 +87,28 @@ func sweepOutputs() []sweepOutput {
 
 // Point statuses in summary.csv.
 const (
-	statusOK      = "ok"
-	statusFailed  = "failed"
-	statusMissing = "missing"
+	StatusOK      = "ok"
+	StatusFailed  = "failed"
+	StatusMissing = "missing"
 )
 
-// sweepRow is one point and replicate.
-type sweepRow struct {
-	P      planPoint
+// Row is one point and replicate.
+type Row struct {
+	P      PlanPoint
 	Status string
 	Vals   []float64 // per output; NaN when absent
 }
 
-// collectRows reads every point folder of pl in dir. A point finished by
+// Collect reads every point folder of pl in dir. A point finished by
 // gelspace run (plan mode) without a marker counts as complete when its
 // outputs are all there and its run.json records the point's config; its
 // marker is then written.
-func collectRows(dir string, pl *sweepPlan) ([]sweepRow, error) {
-	outs := sweepOutputs()
-	rows := make([]sweepRow, len(pl.Points))
+func Collect(dir string, pl *Plan) ([]Row, error) {
+	outs := Outputs()
+	rows := make([]Row, len(pl.Points))
 	for i, p := range pl.Points {
-		pd := filepath.Join(dir, sweepPointsDir, p.Name)
-		r := sweepRow{P: p, Status: statusMissing, Vals: make([]float64, len(outs))}
+		pd := filepath.Join(dir, PointsDir, p.Name)
+		r := Row{P: p, Status: StatusMissing, Vals: make([]float64, len(outs))}
 		for k := range r.Vals {
 			r.Vals[k] = math.NaN()
 		}
@@ -128,16 +125,16 @@ func collectRows(dir string, pl *sweepPlan) ([]sweepRow, error) {
 			if err != nil {
 				return nil, err
 			}
-			var s RunSummary
+			var s run.Summary
 			if err := json.Unmarshal(data, &s); err != nil {
-				return nil, &InputError{File: filepath.Join(pd, "summary.json"), Msg: "malformed run summary: " + err.Error()}
+				return nil, &configs.InputError{File: filepath.Join(pd, "summary.json"), Msg: "malformed run summary: " + err.Error()}
 			}
-			r.Status = statusOK
+			r.Status = StatusOK
 			for k, o := range outs {
 				r.Vals[k] = o.get(&s)
 			}
-		case fileExists(filepath.Join(pd, pointErrorFile)):
-			r.Status = statusFailed
+		case fileExists(filepath.Join(pd, PointErrorFile)):
+			r.Status = StatusFailed
 		}
 		rows[i] = r
 	}
@@ -159,23 +156,23 @@ func finishedByRun(pd string) bool {
 			return false
 		}
 	}
-	if fileExists(filepath.Join(pd, checkpointFile)) {
+	if fileExists(filepath.Join(pd, run.CheckpointFile)) {
 		return false
 	}
-	ms, err1 := os.Stat(filepath.Join(pd, runManifest))
+	ms, err1 := os.Stat(filepath.Join(pd, run.ManifestFile))
 	ss, err2 := os.Stat(filepath.Join(pd, "summary.json"))
 	if err1 != nil || err2 != nil || ss.ModTime().Before(ms.ModTime()) {
 		return false
 	}
-	data, err := os.ReadFile(filepath.Join(pd, runManifest))
+	data, err := os.ReadFile(filepath.Join(pd, run.ManifestFile))
 	if err != nil {
 		return false
 	}
-	var man manifest
-	if json.Unmarshal(data, &man) != nil || man.Version != version {
+	var man run.Manifest
+	if json.Unmarshal(data, &man) != nil || man.Version != run.Version {
 		return false
 	}
-	raw, err := LoadRaw(filepath.Join(pd, pointConfigFile))
+	raw, err := configs.LoadRaw(filepath.Join(pd, PointConfigFile))
 	if err != nil {
 		return false
 	}
@@ -202,14 +199,14 @@ func csvCell(s string) string {
 }
 
 // writeSummaryCSV writes summary.csv.
-func writeSummaryCSV(w io.Writer, pl *sweepPlan, rows []sweepRow) error {
+func writeSummaryCSV(w io.Writer, pl *Plan, rows []Row) error {
 	var b bytes.Buffer
 	head := []string{"point", "replicate", "folder"}
 	for _, a := range pl.Axes {
 		head = append(head, csvCell(a.Key))
 	}
 	head = append(head, "seed", "status")
-	for _, o := range sweepOutputs() {
+	for _, o := range Outputs() {
 		head = append(head, o.Name)
 	}
 	b.WriteString(strings.Join(head, ",") + "\n")
@@ -264,8 +261,8 @@ func statsOf(vals []float64) replicateStats {
 
 // pointStats groups rows by point (rows are in point order) and returns,
 // per point, its first row and the statistics of every output.
-func pointStats(rows []sweepRow) (first []sweepRow, stats [][]replicateStats, runs []int) {
-	nOut := len(sweepOutputs())
+func pointStats(rows []Row) (first []Row, stats [][]replicateStats, runs []int) {
+	nOut := len(Outputs())
 	for i := 0; i < len(rows); {
 		j := i
 		for j < len(rows) && rows[j].P.Point == rows[i].P.Point {
@@ -276,14 +273,14 @@ func pointStats(rows []sweepRow) (first []sweepRow, stats [][]replicateStats, ru
 		for k := range nOut {
 			var v []float64
 			for _, r := range rows[i:j] {
-				if r.Status == statusOK {
+				if r.Status == StatusOK {
 					v = append(v, r.Vals[k])
 				}
 			}
 			st[k] = statsOf(v)
 		}
 		for _, r := range rows[i:j] {
-			if r.Status == statusOK {
+			if r.Status == StatusOK {
 				ok++
 			}
 		}
@@ -297,14 +294,14 @@ func pointStats(rows []sweepRow) (first []sweepRow, stats [][]replicateStats, ru
 // replicates planned and finished, and per output <name>_n (replicates
 // with a value: for depercolation_time_h, how many depercolated),
 // _mean, _sd and _ci95 (half-width of the 95 % interval: mean ± ci95).
-func writeStatsCSV(w io.Writer, pl *sweepPlan, rows []sweepRow) error {
+func writeStatsCSV(w io.Writer, pl *Plan, rows []Row) error {
 	var b bytes.Buffer
 	head := []string{"point"}
 	for _, a := range pl.Axes {
 		head = append(head, csvCell(a.Key))
 	}
 	head = append(head, "replicates", "replicates_ok")
-	for _, o := range sweepOutputs() {
+	for _, o := range Outputs() {
 		head = append(head, o.Name+"_n", o.Name+"_mean", o.Name+"_sd", o.Name+"_ci95")
 	}
 	b.WriteString(strings.Join(head, ",") + "\n")
@@ -324,13 +321,13 @@ func writeStatsCSV(w io.Writer, pl *sweepPlan, rows []sweepRow) error {
 	return err
 }
 
-// writeSweepSummaries writes summary.csv, summary_stats.csv and the plots
+// WriteSummaries writes summary.csv, summary_stats.csv and the plots
 // into dir.
-func writeSweepSummaries(dir string, pl *sweepPlan, rows []sweepRow) error {
-	if err := WriteFileAtomic(filepath.Join(dir, "summary.csv"), func(w io.Writer) error { return writeSummaryCSV(w, pl, rows) }); err != nil {
+func WriteSummaries(dir string, pl *Plan, rows []Row) error {
+	if err := render.WriteFileAtomic(filepath.Join(dir, "summary.csv"), func(w io.Writer) error { return writeSummaryCSV(w, pl, rows) }); err != nil {
 		return err
 	}
-	if err := WriteFileAtomic(filepath.Join(dir, "summary_stats.csv"), func(w io.Writer) error { return writeStatsCSV(w, pl, rows) }); err != nil {
+	if err := render.WriteFileAtomic(filepath.Join(dir, "summary_stats.csv"), func(w io.Writer) error { return writeStatsCSV(w, pl, rows) }); err != nil {
 		return err
 	}
 	return writeSweepPlots(filepath.Join(dir, "plots"), pl, rows)
@@ -348,7 +345,7 @@ type plotLine struct {
 // summaryLines groups the point statistics of output k into lines over
 // the first axis (x: its numeric value, or its position when it is not a
 // number).
-func summaryLines(pl *sweepPlan, first []sweepRow, stats [][]replicateStats, runs []int, k int) (lines []*plotLine, nominal bool) {
+func summaryLines(pl *Plan, first []Row, stats [][]replicateStats, runs []int, k int) (lines []*plotLine, nominal bool) {
 	ax := pl.Axes[0]
 	for _, n := range ax.Num {
 		if n == nil {
@@ -401,7 +398,7 @@ type errPoints struct {
 
 // writeSweepPlots draws each output that has a value at any point against
 // the first swept axis, PNG and SVG.
-func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
+func writeSweepPlots(dir string, pl *Plan, rows []Row) error {
 	if len(pl.Axes) == 0 {
 		return nil
 	}
@@ -412,7 +409,7 @@ func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
 			xlo, xhi = math.Min(xlo, *n), math.Max(xhi, *n)
 		}
 	}
-	for k, o := range sweepOutputs() {
+	for k, o := range Outputs() {
 		lines, nominal := summaryLines(pl, first, stats, runs, k)
 		has := false
 		for _, l := range lines {
@@ -495,7 +492,7 @@ func writeSweepPlots(dir string, pl *sweepPlan, rows []sweepRow) error {
 			if err != nil {
 				return err
 			}
-			if err := WriteFileAtomic(filepath.Join(dir, o.Name+"."+ext), func(w io.Writer) error { _, err := wt.WriteTo(w); return err }); err != nil {
+			if err := render.WriteFileAtomic(filepath.Join(dir, o.Name+"."+ext), func(w io.Writer) error { _, err := wt.WriteTo(w); return err }); err != nil {
 				return err
 			}
 		}

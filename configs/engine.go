@@ -1,4 +1,4 @@
-package main
+package configs
 
 import (
 	"encoding/csv"
@@ -17,7 +17,7 @@ import (
 // KineticsConfig adjusts the engine's rate constants ([kinetics]). Absent
 // keys keep kinetics.DefaultParams. The three scales are the knobs that
 // gelspace fit adjusts.
-type KineticsConfig struct {
+type Kinetics struct {
 	// DissolutionScale multiplies every dissolution velocity.
 	DissolutionScale float64 `toml:"dissolution_scale"`
 	// NucleationScale multiplies the C-S-H and CH nucleation rates.
@@ -48,12 +48,12 @@ type PhaseKinetics struct {
 }
 
 // defaultKinetics is the [kinetics] of a config that has none.
-func defaultKinetics() KineticsConfig {
-	return KineticsConfig{DissolutionScale: 1, NucleationScale: 1, ThroughProductScale: 1}
+func defaultKinetics() Kinetics {
+	return Kinetics{DissolutionScale: 1, NucleationScale: 1, ThroughProductScale: 1}
 }
 
 // Params returns the engine parameters the config calls for.
-func (k *KineticsConfig) Params() (kinetics.Params, error) {
+func (k *Kinetics) Params() (kinetics.Params, error) {
 	p := kinetics.DefaultParams()
 	for name, s := range map[string]float64{"dissolution_scale": k.DissolutionScale, "nucleation_scale": k.NucleationScale, "through_product_scale": k.ThroughProductScale} {
 		if !(s > 0 && s <= 1000) {
@@ -108,12 +108,12 @@ const (
 	waterHeatCapacity  = 4.18
 )
 
-// engineSettings builds the engine's settings from a validated config.
-func engineSettings(cfg *Config) (voxel.EngineSettings, error) {
-	r := cfg.raw
-	if r == nil {
-		r = &Raw{Name: cfg.Source, lines: map[string]int{}, sets: map[string]string{}}
-	}
+// EngineSettings builds the hydration engine's settings (rate
+// parameters, thermal regime, sealed or saturated curing, seed) from the
+// config; Validate calls it, so a validated config fails here only if its
+// schedule file changed since. Errors are *InputError.
+func (cfg *Config) EngineSettings() (voxel.EngineSettings, error) {
+	r := cfg.located()
 	p, err := cfg.Kinetics.Params()
 	if err != nil {
 		key, msg, _ := strings.Cut(err.Error(), " = ")

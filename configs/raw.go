@@ -1,4 +1,4 @@
-package main
+package configs
 
 import (
 	"bytes"
@@ -26,30 +26,6 @@ type Raw struct {
 	sets map[string]string
 }
 
-// InputError is bad input: a config, a table or a flag. It is printed as
-// one line naming the file (or the flag), the line, the key and the
-// allowed range, and ends the program with exit status 2.
-type InputError struct {
-	File string // config file, table file or "--set"
-	Line int    // 0 when not known
-	Key  string // dotted config key, or ""
-	Msg  string
-}
-
-func (e *InputError) Error() string {
-	var b strings.Builder
-	b.WriteString(e.File)
-	if e.Line > 0 {
-		fmt.Fprintf(&b, ":%d", e.Line)
-	}
-	if e.Key != "" {
-		fmt.Fprintf(&b, ": %s", e.Key)
-	}
-	b.WriteString(": ")
-	b.WriteString(e.Msg)
-	return b.String()
-}
-
 // ParseRaw parses TOML text. A syntax error comes back as an InputError
 // with the line.
 func ParseRaw(name, dir string, data []byte) (*Raw, error) {
@@ -61,7 +37,7 @@ func ParseRaw(name, dir string, data []byte) (*Raw, error) {
 		}
 		return nil, &InputError{File: name, Msg: "malformed TOML: " + err.Error()}
 	}
-	return &Raw{Name: name, Dir: dir, Tree: tree, lines: keyLines(data), sets: map[string]string{}}, nil
+	return &Raw{Name: name, Dir: dir, Tree: tree, lines: KeyLines(data), sets: map[string]string{}}, nil
 }
 
 // Set applies one KEY=VALUE override: KEY is dotted ("mix.w_c",
@@ -88,13 +64,14 @@ func (r *Raw) Set(kv string) error {
 	} else {
 		val = strings.TrimSpace(v)
 	}
-	return r.put(k, val, kv, "--set")
+	return r.Put(k, val, kv, "--set")
 }
 
-// put stores val at the dotted key, creating intermediate tables, and
-// records kv as the override's text for messages; file names the source
-// of the override in errors.
-func (r *Raw) put(key string, val any, kv, file string) error {
+// Put stores val at the dotted key, creating intermediate tables, and
+// records kv as the override's text, so that messages about the key name
+// the override rather than a line of the file; file names the source of
+// the override in errors (sweeps pass the sweep file).
+func (r *Raw) Put(key string, val any, kv, file string) error {
 	path := strings.Split(key, ".")
 	m := r.Tree
 	for i, p := range path[:len(path)-1] {
@@ -114,6 +91,42 @@ func (r *Raw) put(key string, val any, kv, file string) error {
 	m[path[len(path)-1]] = val
 	r.sets[key] = kv
 	return nil
+}
+
+// Clone returns a copy of r whose tree and overrides can change without
+// touching r's.
+func (r *Raw) Clone() *Raw {
+	c := &Raw{Name: r.Name, Dir: r.Dir, Tree: DeepCopy(r.Tree).(map[string]any), lines: r.lines, sets: make(map[string]string, len(r.sets))}
+	for k, v := range r.sets {
+		c.sets[k] = v
+	}
+	return c
+}
+
+// DeepCopy copies a TOML value (tables, arrays, arrays of tables) so that
+// edits of the copy do not reach the original.
+func DeepCopy(v any) any {
+	switch v := v.(type) {
+	case map[string]any:
+		m := make(map[string]any, len(v))
+		for k, x := range v {
+			m[k] = DeepCopy(x)
+		}
+		return m
+	case []any:
+		s := make([]any, len(v))
+		for i, x := range v {
+			s[i] = DeepCopy(x)
+		}
+		return s
+	case []map[string]any:
+		s := make([]map[string]any, len(v))
+		for i, x := range v {
+			s[i] = DeepCopy(x).(map[string]any)
+		}
+		return s
+	}
+	return v
 }
 
 // Line returns the source line of a dotted key, or of its nearest parent,
@@ -187,7 +200,7 @@ func (r *Raw) Decode() (*Config, error) {
 // keyLines finds the line of each key of a TOML text: table headers, key =
 // value lines and the keys of inline tables on them. It is a locator for
 // messages, not a parser: the text has already parsed.
-func keyLines(data []byte) map[string]int {
+func KeyLines(data []byte) map[string]int {
 	lines := map[string]int{}
 	table := ""
 	for n, line := range strings.Split(string(data), "\n") {

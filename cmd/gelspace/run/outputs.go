@@ -1,4 +1,4 @@
-package main
+package run
 
 import (
 	"bytes"
@@ -18,8 +18,8 @@ import (
 	"gelspace/voxel"
 )
 
-// RunSummary is summary.json.
-type RunSummary struct {
+// Summary is summary.json.
+type Summary struct {
 	Version string `json:"version"`
 	Caution string `json:"caution"`
 	Config  string `json:"config"`
@@ -94,9 +94,9 @@ func ageValues(r []float64) AgeValues {
 	return a
 }
 
-func (h *hydration) summary(m *Mix) *RunSummary {
+func (h *hydration) summary(m *Mix) *Summary {
 	cfg := h.cfg
-	s := &RunSummary{Version: version, Caution: render.Caution, Config: cfg.Source, Seed: cfg.Seed}
+	s := &Summary{Version: Version, Caution: render.Caution, Config: cfg.Source, Seed: cfg.Seed}
 	s.Mix.WC = cfg.Mix.WC
 	s.Mix.Cement = cfg.Cement.Name
 	s.Mix.MassPercent, s.Mix.VolumePercent = map[string]float64{}, map[string]float64{}
@@ -163,13 +163,13 @@ func writeRunOutputs(dir string, m *Mix, h *hydration, withImages bool) error {
 	}{
 		{"series.csv", func(w io.Writer) error { return writeSeriesCSV(w, outRows) }},
 		{"samples.csv", func(w io.Writer) error { return writeSeriesCSV(w, h.st.Samples) }},
-		{"summary.json", func(w io.Writer) error { return writeJSON(w, sum) }},
+		{"summary.json", func(w io.Writer) error { return WriteJSON(w, sum) }},
 		{"final.vti", func(w io.Writer) error { return voxel.WriteVTI(w, g) }},
 		{"final.npy", func(w io.Writer) error { return voxel.WriteNPY(w, g) }},
-		{"phases.csv", writePhasesCSV},
+		{"phases.csv", WritePhasesCSV},
 	}
 	for _, f := range files {
-		if err := WriteFileAtomic(filepath.Join(dir, f.name), f.write); err != nil {
+		if err := render.WriteFileAtomic(filepath.Join(dir, f.name), f.write); err != nil {
 			return err
 		}
 	}
@@ -183,7 +183,7 @@ func writeRunOutputs(dir string, m *Mix, h *hydration, withImages bool) error {
 // The images are independent jobs run on up to h.workers goroutines; what
 // the report embeds is kept in fixed slots, so the page does not depend on
 // the order in which jobs finish.
-func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
+func writeRunImages(dir string, m *Mix, h *hydration, sum *Summary) error {
 	g := h.e.Grid()
 	cfg := h.cfg
 	sliceDir, plotDir := filepath.Join(dir, "slices"), filepath.Join(dir, "plots")
@@ -299,19 +299,19 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *RunSummary) error {
 	}
 	rep := &render.Report{
 		Title:      "gelspace run: " + nonEmpty(cfg.Cement.Name, cfg.Source),
-		Version:    version,
+		Version:    Version,
 		Mix:        mixRows(m, h),
 		Results:    resultRows(series, sum),
 		Plots:      plots,
 		Slices:     reportSlices,
 		ConfigText: text,
 	}
-	return WriteFileAtomic(filepath.Join(dir, "report.html"), func(w io.Writer) error { return render.WriteReport(w, rep) })
+	return render.WriteFileAtomic(filepath.Join(dir, "report.html"), func(w io.Writer) error { return render.WriteReport(w, rep) })
 }
 
 // writeBytes writes data to path through a temporary name.
 func writeBytes(path string, data []byte) error {
-	return WriteFileAtomic(path, func(w io.Writer) error { _, err := w.Write(data); return err })
+	return render.WriteFileAtomic(path, func(w io.Writer) error { _, err := w.Write(data); return err })
 }
 
 // runJobs runs jobs on up to workers goroutines (0: all cores) and returns
@@ -347,10 +347,10 @@ func runJobs(workers int, jobs []func() error) error {
 
 // configText is the resolved config as TOML.
 func (h *hydration) configText() (string, error) {
-	if h.cfg.raw == nil {
+	if h.cfg.Raw() == nil {
 		return "", nil
 	}
-	b, err := toml.Marshal(h.cfg.raw.Tree)
+	b, err := toml.Marshal(h.cfg.Raw().Tree)
 	return string(b), err
 }
 
@@ -398,7 +398,7 @@ func mixRows(m *Mix, h *hydration) []render.Row {
 	return rows
 }
 
-func resultRows(s *render.Series, sum *RunSummary) []render.Row {
+func resultRows(s *render.Series, sum *Summary) []render.Row {
 	setH, depH := math.NaN(), math.NaN()
 	if sum.SetTimeH != nil {
 		setH = *sum.SetTimeH

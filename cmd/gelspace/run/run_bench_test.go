@@ -1,8 +1,9 @@
-package main
+package run
 
 import (
-	"io"
 	"testing"
+
+	"gelspace/configs"
 )
 
 // BenchmarkRunDefault runs the embedded default (100³, 28 days) on one
@@ -22,11 +23,11 @@ func BenchmarkRunDefault(b *testing.B) {
 				if c.diff {
 					sets = nil
 				}
-				cfg, err := LoadConfig("", sets)
+				cfg, err := configs.Load("", sets)
 				if err != nil {
 					b.Fatal(err)
 				}
-				if _, err := executeRun(cfg, manifest{Version: version}, RunParams{Out: b.TempDir(), Images: c.images, Workers: 1, Stderr: io.Discard}); err != nil {
+				if _, err := Run(cfg, Options{Out: b.TempDir(), Images: c.images, Workers: 1}); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -1,20 +1,4 @@
-package main
-
-// Running a sweep: the sweep folder's layout, the completion markers, the
-// worker pool, and the plan for a cluster's scheduler.
-//
-// A sweep folder holds sweep.json (the plan: axes and points), points/
-// with one folder per point and replicate (config.toml, the run's outputs,
-// and done.json, the completion marker, written last), sweep.log (one line
-// per point started, finished or failed), the summaries and plots/.
-//
-// done.json holds the SHA-256 of the point's config.toml (and the
-// version): a point whose marker matches its present config is complete
-// and is skipped on resume; any other point runs again from its start.
-// Every output of a run is written through a temporary name and renamed,
-// and the marker is renamed into place after all of them, so a sweep killed
-// at any moment leaves complete points that are skipped and incomplete
-// ones that rerun.
+package sweep
 
 import (
 	"bytes"
@@ -27,47 +11,48 @@ import (
 	"sync"
 	"time"
 
-	"github.com/BurntSushi/toml"
-	"github.com/schollz/progressbar/v3"
+	"gelspace/cmd/gelspace/run"
+	"gelspace/configs"
+	"gelspace/render"
 )
 
 // Names in a sweep folder.
 const (
-	sweepPlanFile   = "sweep.json"
-	sweepLogFile    = "sweep.log"
-	sweepPointsDir  = "points"
-	pointConfigFile = "config.toml"
-	pointMarkerFile = "done.json"
-	pointErrorFile  = "error.txt"
-	slurmScriptFile = "slurm.sh"
-	commandsFile    = "commands.txt"
-	pointListFile   = "points.txt"
+	PlanFile        = "sweep.json"
+	LogFile         = "sweep.log"
+	PointsDir       = "points"
+	PointConfigFile = "config.toml"
+	MarkerFile      = "done.json"
+	PointErrorFile  = "error.txt"
+	SlurmScriptFile = "slurm.sh"
+	CommandsFile    = "commands.txt"
+	PointListFile   = "points.txt"
 )
 
-// sweepPlan is sweep.json: what collect needs to summarise the folder.
-type sweepPlan struct {
+// Plan is sweep.json: what collect needs to summarise the folder.
+type Plan struct {
 	Version    string      `json:"version"`
 	Sweep      string      `json:"sweep"`
 	Name       string      `json:"name,omitempty"`
 	Base       string      `json:"base"`
 	Replicates int         `json:"replicates"`
 	Images     bool        `json:"images"`
-	Axes       []planAxis  `json:"axes"`
-	Points     []planPoint `json:"points"`
+	Axes       []PlanAxis  `json:"axes"`
+	Points     []PlanPoint `json:"points"`
 }
 
-// planAxis is one swept key and its values (as text and, where numeric,
+// PlanAxis is one swept key and its values (as text and, where numeric,
 // as numbers: NaN is written as null).
-type planAxis struct {
+type PlanAxis struct {
 	Key    string     `json:"key"`
 	Zip    bool       `json:"zip,omitempty"`
 	Values []string   `json:"values"`
 	Num    []*float64 `json:"num"`
 }
 
-// planPoint is one run: its folder, axis combination, replicate, seed and
+// PlanPoint is one run: its folder, axis combination, replicate, seed and
 // the index of each axis's value.
-type planPoint struct {
+type PlanPoint struct {
 	Name      string `json:"name"`
 	Point     int    `json:"point"`
 	Replicate int    `json:"replicate"`
@@ -76,24 +61,27 @@ type planPoint struct {
 	Hash      string `json:"config_sha256"`
 }
 
-// marker is done.json.
-type marker struct {
+// Marker is done.json, the completion marker of a point.
+type Marker struct {
 	ConfigSHA256 string  `json:"config_sha256"`
 	Version      string  `json:"version"`
 	PID          int     `json:"pid"`
 	WallS        float64 `json:"wall_s"`
 }
 
-func makePlan(s *sweepSpec, pts []sweepPoint, images bool) *sweepPlan {
-	pl := &sweepPlan{Version: version, Sweep: s.File, Name: s.Name, Base: s.Base, Replicates: s.Replicates, Images: images}
+// NewPlan returns the plan of the sweep s with its points pts; images
+// says whether each point writes its slices, plots and report.
+func NewPlan(s *Spec, pts []Point, images bool) *Plan {
+	pl := &Plan{Version: run.Version, Sweep: s.File, Name: s.Name, Base: s.Base, Replicates: s.Replicates, Images: images}
 	if pl.Base == "" {
-		pl.Base = DefaultConfigName
+		pl.Base = configs.DefaultName
 	}
 	for _, a := range s.Axes {
-		pa := planAxis{Key: a.Key, Zip: a.Table == "zip", Values: a.Text}
+		pa := PlanAxis{Key: a.Key, Zip: a.Table == "zip", Values: a.Text}
 		for _, x := range a.Num {
 			if x == x {
-				pa.Num = append(pa.Num, ptr(x))
+				v := x
+				pa.Num = append(pa.Num, &v)
 			} else {
 				pa.Num = append(pa.Num, nil)
 			}
@@ -101,48 +89,48 @@ func makePlan(s *sweepSpec, pts []sweepPoint, images bool) *sweepPlan {
 		pl.Axes = append(pl.Axes, pa)
 	}
 	for _, p := range pts {
-		pl.Points = append(pl.Points, planPoint{Name: p.Name, Point: p.Point, Replicate: p.Replicate, Seed: p.Seed, Values: p.Values, Hash: configHash(p.Config)})
+		pl.Points = append(pl.Points, PlanPoint{Name: p.Name, Point: p.Point, Replicate: p.Replicate, Seed: p.Seed, Values: p.Values, Hash: configHash(p.Config)})
 	}
 	return pl
 }
 
-// writePlan lays out the sweep folder: sweep.json and every point's
+// WritePlan lays out the sweep folder: sweep.json and every point's
 // config.toml (rewritten only when it changed, so a complete point keeps
 // its marker valid).
-func writePlan(dir string, pl *sweepPlan, pts []sweepPoint) error {
-	if err := os.MkdirAll(filepath.Join(dir, sweepPointsDir), 0o755); err != nil {
+func WritePlan(dir string, pl *Plan, pts []Point) error {
+	if err := os.MkdirAll(filepath.Join(dir, PointsDir), 0o755); err != nil {
 		return err
 	}
-	if old, err := readPlan(dir); err == nil && old.Sweep != "" {
+	if old, err := ReadPlan(dir); err == nil && old.Sweep != "" {
 		// A folder of another sweep is refused rather than mixed.
 		if len(old.Axes) != len(pl.Axes) {
-			return &usageError{fmt.Sprintf("sweep: %s holds a sweep with other axes (%s); use another --out", dir, axisKeys(old))}
+			return &configs.InputError{Msg: fmt.Sprintf("sweep: %s holds a sweep with other axes (%s); use another --out", dir, axisKeys(old))}
 		}
 		for i := range old.Axes {
 			if old.Axes[i].Key != pl.Axes[i].Key {
-				return &usageError{fmt.Sprintf("sweep: %s holds a sweep with other axes (%s); use another --out", dir, axisKeys(old))}
+				return &configs.InputError{Msg: fmt.Sprintf("sweep: %s holds a sweep with other axes (%s); use another --out", dir, axisKeys(old))}
 			}
 		}
 	}
 	for _, p := range pts {
-		pd := filepath.Join(dir, sweepPointsDir, p.Name)
+		pd := filepath.Join(dir, PointsDir, p.Name)
 		if err := os.MkdirAll(pd, 0o755); err != nil {
 			return err
 		}
-		path := filepath.Join(pd, pointConfigFile)
+		path := filepath.Join(pd, PointConfigFile)
 		if old, err := os.ReadFile(path); err == nil && bytes.Equal(old, p.Config) {
 			continue
 		}
-		os.Remove(filepath.Join(pd, pointMarkerFile))
+		os.Remove(filepath.Join(pd, MarkerFile))
 		cfgText := p.Config
-		if err := WriteFileAtomic(path, func(w io.Writer) error { _, err := w.Write(cfgText); return err }); err != nil {
+		if err := render.WriteFileAtomic(path, func(w io.Writer) error { _, err := w.Write(cfgText); return err }); err != nil {
 			return err
 		}
 	}
-	return WriteFileAtomic(filepath.Join(dir, sweepPlanFile), func(w io.Writer) error { return writeJSON(w, pl) })
+	return render.WriteFileAtomic(filepath.Join(dir, PlanFile), func(w io.Writer) error { return run.WriteJSON(w, pl) })
 }
 
-func axisKeys(pl *sweepPlan) string {
+func axisKeys(pl *Plan) string {
 	var k []string
 	for _, a := range pl.Axes {
 		k = append(k, a.Key)
@@ -150,15 +138,16 @@ func axisKeys(pl *sweepPlan) string {
 	return strings.Join(k, ", ")
 }
 
-func readPlan(dir string) (*sweepPlan, error) {
-	path := filepath.Join(dir, sweepPlanFile)
+// ReadPlan reads the plan (sweep.json) of the sweep folder dir.
+func ReadPlan(dir string) (*Plan, error) {
+	path := filepath.Join(dir, PlanFile)
 	data, err := os.ReadFile(path)
 	if err != nil {
-		return nil, &InputError{File: path, Msg: "cannot read the sweep plan: is this a gelspace sweep folder (made by gelspace sweep or sweep plan)?"}
+		return nil, &configs.InputError{File: path, Msg: "cannot read the sweep plan: is this a gelspace sweep folder (made by gelspace sweep or sweep plan)?"}
 	}
-	var pl sweepPlan
+	var pl Plan
 	if err := json.Unmarshal(data, &pl); err != nil {
-		return nil, &InputError{File: path, Msg: "malformed sweep plan: " + err.Error()}
+		return nil, &configs.InputError{File: path, Msg: "malformed sweep plan: " + err.Error()}
 	}
 	return &pl, nil
 }
@@ -166,36 +155,36 @@ func readPlan(dir string) (*sweepPlan, error) {
 // pointComplete reports whether the point folder's marker matches its
 // config.toml.
 func pointComplete(pd string) bool {
-	cfg, err := os.ReadFile(filepath.Join(pd, pointConfigFile))
+	cfg, err := os.ReadFile(filepath.Join(pd, PointConfigFile))
 	if err != nil {
 		return false
 	}
-	data, err := os.ReadFile(filepath.Join(pd, pointMarkerFile))
+	data, err := os.ReadFile(filepath.Join(pd, MarkerFile))
 	if err != nil {
 		return false
 	}
-	var m marker
+	var m Marker
 	if json.Unmarshal(data, &m) != nil {
 		return false
 	}
-	return m.ConfigSHA256 == configHash(cfg) && m.Version == version
+	return m.ConfigSHA256 == configHash(cfg) && m.Version == run.Version
 }
 
 // writeMarker writes done.json, the last file of a complete point.
 func writeMarker(pd string, wallS float64) error {
-	cfg, err := os.ReadFile(filepath.Join(pd, pointConfigFile))
+	cfg, err := os.ReadFile(filepath.Join(pd, PointConfigFile))
 	if err != nil {
 		return err
 	}
-	m := marker{ConfigSHA256: configHash(cfg), Version: version, PID: os.Getpid(), WallS: wallS}
-	return WriteFileAtomic(filepath.Join(pd, pointMarkerFile), func(w io.Writer) error { return writeJSON(w, m) })
+	m := Marker{ConfigSHA256: configHash(cfg), Version: run.Version, PID: os.Getpid(), WallS: wallS}
+	return render.WriteFileAtomic(filepath.Join(pd, MarkerFile), func(w io.Writer) error { return run.WriteJSON(w, m) })
 }
 
 // runPoint runs one point in its folder as gelspace run would run its
 // config.toml, and writes the marker when every output is in place.
 func runPoint(pd string, images bool) error {
-	os.Remove(filepath.Join(pd, pointMarkerFile))
-	os.Remove(filepath.Join(pd, pointErrorFile))
+	os.Remove(filepath.Join(pd, MarkerFile))
+	os.Remove(filepath.Join(pd, PointErrorFile))
 	// temporary files of an earlier, killed attempt
 	if tmp, err := filepath.Glob(filepath.Join(pd, ".*.tmp-*")); err == nil {
 		for _, p := range tmp {
@@ -203,16 +192,11 @@ func runPoint(pd string, images bool) error {
 		}
 	}
 	start := time.Now()
-	cfg, err := LoadConfig(filepath.Join(pd, pointConfigFile), nil)
+	cfg, err := configs.Load(filepath.Join(pd, PointConfigFile), nil)
 	if err != nil {
 		return err
 	}
-	text, err := toml.Marshal(cfg.raw.Tree)
-	if err != nil {
-		return err
-	}
-	man := manifest{Version: version, ConfigName: cfg.Source, ConfigDir: cfg.Dir, ConfigText: string(text)}
-	if _, err := executeRun(cfg, man, RunParams{Out: pd, Images: images, Stderr: io.Discard}); err != nil {
+	if _, err := run.Run(cfg, run.Options{Out: pd, Images: images}); err != nil {
 		return err
 	}
 	return writeMarker(pd, time.Since(start).Seconds())
@@ -226,7 +210,7 @@ type sweepLog struct {
 }
 
 func openSweepLog(dir string) (*sweepLog, error) {
-	f, err := os.OpenFile(filepath.Join(dir, sweepLogFile), os.O_APPEND|os.O_CREATE|os.O_WRONLY, 0o644)
+	f, err := os.OpenFile(filepath.Join(dir, LogFile), os.O_APPEND|os.O_CREATE|os.O_WRONLY, 0o644)
 	if err != nil {
 		return nil, err
 	}
@@ -242,43 +226,41 @@ func (l *sweepLog) printf(format string, args ...any) {
 
 func (l *sweepLog) close() { l.f.Close() }
 
-// pointFailure is a point that ended in an error.
-type pointFailure struct {
+// Failure is a point that ended in an error.
+type Failure struct {
 	Name string
 	Err  error
 }
 
-// sweepStats counts what runSweep did.
-type sweepStats struct {
+// Stats counts what Run did.
+type Stats struct {
 	Total, Skipped, Ran int
-	Failed              []pointFailure // in point order
+	Failed              []Failure // in point order
 }
 
-// runSweep runs every incomplete point of pl in dir with jobs workers.
+// Run runs every incomplete point of pl in dir with jobs workers.
 // Each worker runs one point at a time with no shared mutable state; a
 // failing point records its error in its folder and the others go on.
-// progress, when non-nil, is advanced once per point.
-func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.ProgressBar) (*sweepStats, error) {
+// progress, when non-nil, is called once before the first point is run,
+// with done the number of points already complete and left -1, and then
+// after every point, with the estimated wall time left.
+func Run(dir string, pl *Plan, jobs int, progress func(done, total int, left time.Duration)) (*Stats, error) {
 	log, err := openSweepLog(dir)
 	if err != nil {
 		return nil, err
 	}
 	defer log.close()
-	st := &sweepStats{Total: len(pl.Points)}
+	st := &Stats{Total: len(pl.Points)}
 	var todo []int
 	for i, p := range pl.Points {
-		if pointComplete(filepath.Join(dir, sweepPointsDir, p.Name)) {
+		if pointComplete(filepath.Join(dir, PointsDir, p.Name)) {
 			st.Skipped++
 			continue
 		}
 		todo = append(todo, i)
 	}
 	if progress != nil {
-		progress.Describe("sweep (time left after the first runs)")
-		if st.Skipped > 0 {
-			progress.Add(st.Skipped)
-		}
-		progress.RenderBlank()
+		progress(st.Skipped, st.Total, -1)
 	}
 	t0 := time.Now()
 	log.printf("sweep: %d points, %d complete, %d to run with %d jobs", st.Total, st.Skipped, len(todo), jobs)
@@ -295,7 +277,7 @@ func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.Progres
 			defer wg.Done()
 			for i := range work {
 				p := pl.Points[i]
-				pd := filepath.Join(dir, sweepPointsDir, p.Name)
+				pd := filepath.Join(dir, PointsDir, p.Name)
 				log.printf("start %s", p.Name)
 				err := runPoint(pd, pl.Images)
 				results <- result{i, err}
@@ -313,11 +295,11 @@ func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.Progres
 	errs := map[int]error{}
 	for r := range results {
 		p := pl.Points[r.i]
-		pd := filepath.Join(dir, sweepPointsDir, p.Name)
+		pd := filepath.Join(dir, PointsDir, p.Name)
 		if r.err != nil {
 			errs[r.i] = r.err
 			msg := strings.ReplaceAll(r.err.Error(), "\n", " ")
-			WriteFileAtomic(filepath.Join(pd, pointErrorFile), func(w io.Writer) error { _, err := fmt.Fprintln(w, msg); return err })
+			render.WriteFileAtomic(filepath.Join(pd, PointErrorFile), func(w io.Writer) error { _, err := fmt.Fprintln(w, msg); return err })
 			log.printf("failed %s: %s", p.Name, msg)
 		} else {
 			st.Ran++
@@ -328,13 +310,12 @@ func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.Progres
 			// workers run side by side, so this counts them all)
 			n := st.Ran + len(errs)
 			left := time.Duration(float64(time.Since(t0)) / float64(n) * float64(len(todo)-n))
-			progress.Describe(fmt.Sprintf("sweep, about %s left", left.Round(time.Second)))
-			progress.Add(1)
+			progress(st.Skipped+n, st.Total, left)
 		}
 	}
 	for _, i := range todo {
 		if err, ok := errs[i]; ok {
-			st.Failed = append(st.Failed, pointFailure{pl.Points[i].Name, err})
+			st.Failed = append(st.Failed, Failure{pl.Points[i].Name, err})
 		}
 	}
 	return st, nil
@@ -345,20 +326,20 @@ func runSweep(dir string, pl *sweepPlan, jobs int, progress *progressbar.Progres
 // the same commands, one a line, for GNU parallel (`cd DIR && parallel <
 // commands.txt`) or xargs. Both run from the sweep folder, with paths
 // relative to it, so the folder can be copied to a cluster as it is.
-func writeSchedulerFiles(dir string, pl *sweepPlan) error {
+func WriteSchedulerFiles(dir string, pl *Plan) error {
 	abs, err := filepath.Abs(dir)
 	if err != nil {
 		return err
 	}
-	render := ""
+	noRender := ""
 	if !pl.Images {
-		render = " --no-render"
+		noRender = " --no-render"
 	}
 	var list, cmds bytes.Buffer
 	for _, p := range pl.Points {
-		pd := sweepPointsDir + "/" + p.Name
+		pd := PointsDir + "/" + p.Name
 		fmt.Fprintln(&list, pd)
-		fmt.Fprintf(&cmds, "gelspace run %s/%s --out %s%s --quiet\n", pd, pointConfigFile, pd, render)
+		fmt.Fprintf(&cmds, "gelspace run %s/%s --out %s%s --quiet\n", pd, PointConfigFile, pd, noRender)
 	}
 	n := len(pl.Points)
 	script := fmt.Sprintf(`#!/bin/bash
@@ -386,22 +367,22 @@ if [ -z "$point" ]; then
 	exit 2
 fi
 exec "$GELSPACE" run "$point/%[7]s" --out "$point"%[8]s --quiet
-`, filepath.Base(pl.Sweep), slurmScriptFile, n-1, shellQuote(abs), pointListFile, n, pointConfigFile, render, abs)
+`, filepath.Base(pl.Sweep), SlurmScriptFile, n-1, shellQuote(abs), PointListFile, n, PointConfigFile, noRender, abs)
 	files := []struct {
 		name string
 		data []byte
 	}{
-		{pointListFile, list.Bytes()},
-		{commandsFile, cmds.Bytes()},
-		{slurmScriptFile, []byte(script)},
+		{PointListFile, list.Bytes()},
+		{CommandsFile, cmds.Bytes()},
+		{SlurmScriptFile, []byte(script)},
 	}
 	for _, f := range files {
 		data := f.data
-		if err := WriteFileAtomic(filepath.Join(dir, f.name), func(w io.Writer) error { _, err := w.Write(data); return err }); err != nil {
+		if err := render.WriteFileAtomic(filepath.Join(dir, f.name), func(w io.Writer) error { _, err := w.Write(data); return err }); err != nil {
 			return err
 		}
 	}
-	return os.Chmod(filepath.Join(dir, slurmScriptFile), 0o755)
+	return os.Chmod(filepath.Join(dir, SlurmScriptFile), 0o755)
 }
 
 // shellQuote quotes s for bash when it needs it.

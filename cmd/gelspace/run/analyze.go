@@ -1,0 +1,72 @@
+package run
+
+import (
+	"fmt"
+	"math"
+
+	"gelspace/percolation"
+	"gelspace/render"
+	"gelspace/voxel"
+)
+
+// Analysis is the measurement of a volume, as gelspace analyze --json
+// prints it (its JSON keys are a stable interface).
+type Analysis struct {
+	Volume                  string             `json:"volume"`
+	Dims                    [3]int             `json:"dims"`
+	VoxelUM                 float64            `json:"voxel_um"`
+	Periodic                bool               `json:"periodic"`
+	Porosity                float64            `json:"porosity"`
+	PoresConnectedFraction  float64            `json:"pores_connected_fraction"`
+	PoresSpanAxes           []string           `json:"pores_span_axes"`
+	SolidsConnectedFraction float64            `json:"solids_connected_fraction"`
+	SolidsSpanAxes          []string           `json:"solids_span_axes"`
+	RelDiffusivity          [3]float64         `json:"rel_diffusivity"`
+	FormationFactor         [3]float64         `json:"formation_factor"` // -1: no conducting path
+	PhaseFractions          map[string]float64 `json:"phase_fractions"`
+}
+
+// axesNames lists the axes marked in span as "x", "y", "z".
+func axesNames(span [3]bool) []string {
+	out := []string{}
+	for a, s := range span {
+		if s {
+			out = append(out, string("xyz"[a]))
+		}
+	}
+	return out
+}
+
+// Analyze measures a volume: porosity, connectivity of pores and solids
+// (with the spanning axes), D/D0 per axis with the relative residual tol,
+// and the phase fractions.
+func Analyze(box percolation.Box, g *voxel.Grid, tol float64) (*Analysis, error) {
+	pores := percolation.Pores(box, g.Phase)
+	solids := percolation.Solids(box, g.Phase, g.Particle)
+	d, err := percolation.Diffusivity(box, g.Phase, percolation.DiffusivityOptions{Tol: tol})
+	if err != nil {
+		return nil, fmt.Errorf("analyze: diffusivity: %w", err)
+	}
+	rep := &Analysis{Dims: [3]int{g.NX, g.NY, g.NZ}, VoxelUM: g.VoxelUM, Periodic: box.Periodic[0],
+		Porosity:                float64(pores.Voxels) / float64(g.Len()),
+		PoresConnectedFraction:  pores.Fraction,
+		PoresSpanAxes:           axesNames(pores.Span),
+		SolidsConnectedFraction: solids.Fraction,
+		SolidsSpanAxes:          axesNames(solids.Span),
+		RelDiffusivity:          d.Rel,
+		PhaseFractions:          map[string]float64{},
+	}
+	for a := range 3 {
+		rep.FormationFactor[a] = d.Formation[a]
+		if math.IsInf(d.Formation[a], 0) {
+			rep.FormationFactor[a] = -1
+		}
+	}
+	cnt := g.Count()
+	for id, n := range cnt {
+		if n > 0 {
+			rep.PhaseFractions[render.PhaseLabel(uint8(id))] = float64(n) / float64(g.Len())
+		}
+	}
+	return rep, nil
+}

@@ -1,0 +1,177 @@
+package run
+
+import (
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+
+	"gelspace/configs"
+	"gelspace/kinetics"
+	"gelspace/render"
+	"gelspace/voxel"
+)
+
+// Pack packs the box of a resolved mix: the initial microstructure at the
+// mix's w/c, seeded by the config's seed. A packing that cannot be
+// done is a *configs.InputError on [pack].
+func Pack(m *Mix) (*voxel.PackResult, error) {
+	c := m.Cfg
+	n := c.Box.Voxels
+	pops := voxel.Populations(m.Paste, n*n*n, c.Pack.OnePhasePerParticle)
+	res, err := voxel.Pack(voxel.PackSpec{NX: n, NY: n, NZ: n, VoxelUM: c.Box.VoxelUM, Classes: m.Classes, Pops: pops,
+		GapVoxels: c.Pack.GapVoxels, CorrelationUM: c.Pack.CorrelationUM, Seed: uint64(c.Seed)})
+	if err != nil {
+		if pe, ok := err.(*voxel.PackError); ok {
+			return nil, &configs.InputError{File: c.Source, Key: "pack", Msg: pe.Msg}
+		}
+		return nil, err
+	}
+	return res, nil
+}
+
+// SolidFraction is the volume fraction of solid voxels in g, 0–1.
+func SolidFraction(g *voxel.Grid) float64 {
+	s := 0
+	for _, p := range g.Phase {
+		if kinetics.IsSolid(p) {
+			s++
+		}
+	}
+	return float64(s) / float64(g.Len())
+}
+
+// PackReport is pack.json.
+type PackReport struct {
+	Version       string            `json:"version"`
+	Seed          int64             `json:"seed"`
+	Mix           MixReport         `json:"mix"`
+	Pack          configs.Pack      `json:"pack"`
+	Voxels        [3]int            `json:"voxels_xyz"`
+	VoxelUM       float64           `json:"voxel_um"`
+	Phases        []PhaseFit        `json:"phases"`
+	SolidTarget   float64           `json:"solid_fraction_target"`
+	SolidAchieved float64           `json:"solid_fraction_achieved"`
+	Particles     int               `json:"particles"`
+	SurfaceVoxel  float64           `json:"specific_surface_packed_m2_per_kg"`
+	MedianVoxels  float64           `json:"packed_median_diameter_voxels"`
+	ClassCounts   map[string][]int  `json:"particles_per_diameter"`
+	Attempts      int64             `json:"placement_trials"`
+	Scans         int               `json:"placement_scans"`
+	WallS         float64           `json:"wall_s"`
+	Files         map[string]string `json:"files"`
+	Notes         map[string]string `json:"notes"`
+}
+
+// PhaseFit compares a phase's target and achieved volume fraction.
+type PhaseFit struct {
+	Key            string  `json:"key"`
+	TargetFraction float64 `json:"target_fraction"`
+	Achieved       float64 `json:"achieved_fraction"`
+	TargetVoxels   int     `json:"target_voxels"`
+	Voxels         int     `json:"voxels"`
+}
+
+// NewPackReport returns pack.json's content for a packed box; wall is the
+// packing's wall-clock time, s.
+func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
+	g := res.Grid
+	n := float64(g.Len())
+	cnt := g.Count()
+	c := m.Cfg
+	pops := voxel.Populations(m.Paste, g.Len(), c.Pack.OnePhasePerParticle)
+	rep := PackReport{Version: Version, Seed: c.Seed, Mix: m.Report(), Pack: c.Pack, Voxels: [3]int{g.NX, g.NY, g.NZ},
+		VoxelUM: g.VoxelUM, SolidTarget: m.SolidFraction, SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
+		SurfaceVoxel: voxel.SpecificSurfaceM2PerKg(g), Attempts: res.Attempts, Scans: res.Scans, WallS: wall,
+		ClassCounts: map[string][]int{},
+		Files: map[string]string{"pack.vti": "VTK XML ImageData, cell arrays phase (UInt8) and particle (Int32)",
+			"pack.npy": "NumPy uint8 phase ids, C order, shape (z, y, x)", "phases.csv": "phase ids, names, densities, colours"},
+		Notes: map[string]string{
+			"target_fraction":   "phase volume fraction of the fresh paste from the mass fractions, the phase densities and w/c",
+			"fines":             "the powder finer than one voxel is merged into the 1-voxel class",
+			"truncation":        "particles are at most half the box edge; the coarser tail is left out and the rest scaled up",
+			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box; voxel faces overstate smooth-sphere area",
+			"packed_median":     "volume-weighted median of the particles' class diameters",
+			"particle_ids":      "1, 2, … in placement order (largest first); 0 is the original water space",
+			"phase_assignments": "clinker grains are shared among C3S, C2S, C3A and C4AF by a periodic value-noise field with cells of pack.correlation_um and exact quantile thresholds, unless pack.one_phase_per_particle",
+		}}
+	for _, p := range pops {
+		for k, id := range p.Phases {
+			rep.Phases = append(rep.Phases, PhaseFit{Key: kinetics.Lookup(id).Key, TargetFraction: m.Paste[id],
+				Achieved: float64(cnt[id]) / n, TargetVoxels: p.Voxels[k], Voxels: cnt[id]})
+		}
+	}
+	rep.Phases = append(rep.Phases, PhaseFit{Key: "water", TargetFraction: m.Paste[kinetics.Water],
+		Achieved: float64(cnt[kinetics.Water]) / n, TargetVoxels: g.Len() - sumTargets(pops), Voxels: cnt[kinetics.Water]})
+	for pi, p := range pops {
+		name := kinetics.Lookup(p.Phases[0]).Key
+		if len(p.Phases) > 1 {
+			name = "clinker"
+		}
+		rep.ClassCounts[name] = res.Counts[pi]
+	}
+	// volume-weighted median class diameter of the packed particles
+	vol := make([]int, len(res.Counts[0]))
+	total := 0
+	for id := 1; id < len(res.Diameter); id++ {
+		d := int(res.Diameter[id])
+		vol[d] += voxel.SphereVoxels(d)
+		total += voxel.SphereVoxels(d)
+	}
+	acc := 0
+	for d, v := range vol {
+		acc += v
+		if 2*acc >= total && total > 0 {
+			rep.MedianVoxels = float64(d)
+			break
+		}
+	}
+	return rep
+}
+
+func sumTargets(pops []voxel.Population) int {
+	s := 0
+	for _, p := range pops {
+		s += p.Total()
+	}
+	return s
+}
+
+// WritePack writes the four pack files into dir, each atomically.
+func WritePack(dir string, m *Mix, res *voxel.PackResult, wall float64) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	g := res.Grid
+	steps := []struct {
+		name  string
+		write func(w io.Writer) error
+	}{
+		{"pack.vti", func(w io.Writer) error { return voxel.WriteVTI(w, g) }},
+		{"pack.npy", func(w io.Writer) error { return voxel.WriteNPY(w, g) }},
+		{"phases.csv", WritePhasesCSV},
+		{"pack.json", func(w io.Writer) error { return WriteJSON(w, NewPackReport(m, res, wall)) }},
+	}
+	for _, s := range steps {
+		if err := render.WriteFileAtomic(filepath.Join(dir, s.name), s.write); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// WritePhasesCSV writes the phase table: id, key, name, role, density,
+// colour hex and grey level.
+func WritePhasesCSV(w io.Writer) error {
+	if _, err := fmt.Fprintln(w, "id,key,name,role,density_g_per_cm3,colour,grey"); err != nil {
+		return err
+	}
+	for _, p := range kinetics.Phases() {
+		grey := render.Grey(&p)
+		c := p.Colour
+		if _, err := fmt.Fprintf(w, "%d,%s,%q,%s,%g,#%02x%02x%02x,%d\n", p.ID, p.Key, p.Name, p.Role, p.DensityGPerCM3, c.R, c.G, c.B, grey); err != nil {
+			return err
+		}
+	}
+	return nil
+}

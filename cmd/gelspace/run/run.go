@@ -1,0 +1,307 @@
+package run
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/BurntSushi/toml"
+
+	"gelspace/configs"
+	"gelspace/render"
+	"gelspace/voxel"
+)
+
+// Files of a run folder that resume reads.
+const (
+	ManifestFile   = "run.json"
+	CheckpointFile = "checkpoint.gsck"
+)
+
+// Manifest is run.json: what a resume needs to rebuild the settings.
+type Manifest struct {
+	Version         string   `json:"version"`
+	ConfigName      string   `json:"config_name"`
+	ConfigDir       string   `json:"config_dir"`
+	ConfigText      string   `json:"config_text"`
+	Sets            []string `json:"sets"`
+	From            string   `json:"from,omitempty"`
+	CheckpointEvery string   `json:"checkpoint_every,omitempty"`
+}
+
+// CheckpointPolicy says when a run saves a checkpoint: every SimH
+// simulated hours or every Wall of wall-clock time (zero: not by that
+// measure).
+type CheckpointPolicy struct {
+	SimH float64
+	Wall time.Duration
+}
+
+// Memory a run takes per voxel, as resident memory: measured on the
+// default 100³ run (113 MB without D/D0, 357 MB with it), which includes the
+// engine's lattice and classes (about 11 bytes, BenchmarkHydrate100) twice
+// (a copy is kept for refining the set point and depercolation), the
+// labelling and image buffers, the diffusivity solver's vectors and
+// multigrid levels, and the garbage collector's headroom.
+const (
+	runBytesPerVoxel  = 120
+	diffBytesPerVoxel = 250
+)
+
+// CheckMemory refuses, before anything is allocated, a box whose run
+// would not fit in the memory available (a *configs.InputError on
+// box.voxels).
+func CheckMemory(cfg *configs.Config) error {
+	n := float64(cfg.Box.Voxels)
+	per := float64(runBytesPerVoxel)
+	if cfg.Output.Diffusivity {
+		per += diffBytesPerVoxel
+	}
+	need, avail := n*n*n*per, float64(configs.AvailableBytes())
+	if need > avail {
+		max := int(math.Cbrt(avail / per))
+		line := 0
+		if cfg.Raw() != nil {
+			line = cfg.Raw().Line("box.voxels")
+		}
+		return &configs.InputError{File: cfg.Source, Line: line, Key: "box.voxels",
+			Msg: fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here (or set output.diffusivity = false)", cfg.Box.Voxels, cfg.Box.Voxels, need/1e9, avail/1e9, max)}
+	}
+	return nil
+}
+
+// Options steer Run. The zero value packs a new box from the config,
+// writes the tables and volumes without images, saves no checkpoint,
+// reports no progress and uses all cores.
+type Options struct {
+	// Out is the output folder, created if need be. It must be given.
+	Out string
+	// From names a folder holding a saved pack (pack.vti, as gelspace
+	// pack writes it) to hydrate instead of packing anew; "" packs.
+	From string
+	// Resume continues the stopped run in Out from its checkpoint.
+	Resume bool
+	// Checkpoint says when to save a checkpoint; the zero value never
+	// does.
+	Checkpoint CheckpointPolicy
+	// Images writes the slice images, plots, time-lapse and report page
+	// besides the tables and volumes.
+	Images bool
+	// Workers bounds the goroutines of the diffusivity solve and of the
+	// image rendering; 0 means all cores. Sweeps, which run one point per
+	// core, pass 1. Results do not depend on it.
+	Workers int
+	// Manifest is written as run.json (what a resume needs); nil writes
+	// NewManifest(cfg).
+	Manifest *Manifest
+	// Progress, when not nil, is called after every sample age reached.
+	Progress func(Progress)
+	// AfterCheckpoint, when not nil, is called after each checkpoint is
+	// saved; an error from it stops the run there, as a kill would (tests
+	// use it).
+	AfterCheckpoint func() error
+}
+
+// Progress is the state of a running hydration, passed to
+// Options.Progress.
+type Progress struct {
+	TimeH          float64 // age reached, h
+	UntilH         float64 // age at which the run stops, h
+	Alpha          float64 // degree of hydration, 0–1
+	HeatFlowMWPerG float64 // heat flow over the last sample interval, mW per g of cement
+}
+
+// Result is what a finished run reports besides its files: the state at
+// the end and the two refined events.
+type Result struct {
+	TimeH             float64 // age at the end, h
+	Alpha             float64 // degree of hydration at the end, 0–1
+	HeatJPerG         float64 // cumulative heat at the end, J per g of cement
+	CapillaryPorosity float64 // water- and empty-filled volume fraction at the end
+	// Set is the set point (the solids first connect across all three
+	// axes); nil when the paste did not set within the run.
+	Set *Transition
+	// Depercolation is the age at which the capillary pores stop spanning
+	// the box; nil when they are still connected at the end.
+	Depercolation *Transition
+	WallS         float64 // wall-clock time of the hydration, s
+}
+
+// NewManifest returns the run.json of a run of cfg: its name, folder and
+// text, with the version.
+func NewManifest(cfg *configs.Config) (*Manifest, error) {
+	var text []byte
+	if r := cfg.Raw(); r != nil {
+		var err error
+		if text, err = toml.Marshal(r.Tree); err != nil {
+			return nil, err
+		}
+	}
+	return &Manifest{Version: Version, ConfigName: cfg.Source, ConfigDir: cfg.Dir, ConfigText: string(text)}, nil
+}
+
+// Run packs (or loads) and hydrates the paste of cfg and writes every
+// output into o.Out: series.csv (one row per output age), samples.csv
+// (every sample age), summary.json, final.vti, final.npy, phases.csv and
+// run.json, with o.Images the slices, plots and report too. It is the
+// whole of gelspace run without the command line; sweeps call it for each
+// point. It prints nothing. Bad input (a pack that does not match the
+// config, a missing checkpoint) is a *configs.InputError.
+func Run(cfg *configs.Config, o Options) (*Result, error) {
+	if o.Out == "" {
+		return nil, errors.New("run: Options.Out must name a folder")
+	}
+	man := o.Manifest
+	if man == nil {
+		var err error
+		if man, err = NewManifest(cfg); err != nil {
+			return nil, err
+		}
+	}
+	m, err := Resolve(cfg)
+	if err != nil {
+		return nil, err
+	}
+	set, err := cfg.EngineSettings()
+	if err != nil {
+		return nil, err
+	}
+	start := time.Now()
+	var h *hydration
+	if o.Resume {
+		path := filepath.Join(o.Out, CheckpointFile)
+		f, err := os.Open(path)
+		if err != nil {
+			return nil, &configs.InputError{File: path, Msg: "no checkpoint to resume from (the run finished, or never saved one)"}
+		}
+		e, extra, err := voxel.ReadCheckpoint(f, set)
+		f.Close()
+		if err != nil {
+			return nil, &configs.InputError{File: path, Msg: err.Error()}
+		}
+		h = newHydration(cfg, set, e)
+		h.workers = o.Workers
+		if err := h.unmarshalState(extra); err != nil {
+			return nil, &configs.InputError{File: path, Msg: "checkpoint progress record: " + err.Error()}
+		}
+	} else {
+		var g *voxel.Grid
+		if o.From != "" {
+			path := filepath.Join(o.From, "pack.vti")
+			if g, err = voxel.ReadVolume(path); err != nil {
+				return nil, &configs.InputError{File: path, Msg: err.Error()}
+			}
+			if g.NX != cfg.Box.Voxels || g.NY != cfg.Box.Voxels || g.NZ != cfg.Box.Voxels || g.VoxelUM != cfg.Box.VoxelUM {
+				return nil, &configs.InputError{File: path, Key: "box", Msg: fmt.Sprintf("the pack is %d×%d×%d voxels of %g µm, the config says %d³ of %g µm: use the config the pack was made with", g.NX, g.NY, g.NZ, g.VoxelUM, cfg.Box.Voxels, cfg.Box.VoxelUM)}
+			}
+		} else {
+			res, err := Pack(m)
+			if err != nil {
+				return nil, err
+			}
+			g = res.Grid
+		}
+		e, err := voxel.NewEngine(g, set)
+		if err != nil {
+			return nil, &configs.InputError{File: cfg.Source, Key: "kinetics", Msg: err.Error()}
+		}
+		h = newHydration(cfg, set, e)
+		h.workers = o.Workers
+		if err := h.start(); err != nil {
+			return nil, err
+		}
+		if err := os.MkdirAll(o.Out, 0o755); err != nil {
+			return nil, err
+		}
+		if err := render.WriteFileAtomic(filepath.Join(o.Out, ManifestFile), func(w io.Writer) error { return WriteJSON(w, man) }); err != nil {
+			return nil, err
+		}
+	}
+	policy := o.Checkpoint
+	lastCk, lastWall := h.e.TimeH(), time.Now()
+	for {
+		more, err := h.step()
+		if err != nil {
+			return nil, err
+		}
+		if !more {
+			break
+		}
+		if o.Progress != nil {
+			last := h.st.Samples[len(h.st.Samples)-1]
+			o.Progress(Progress{TimeH: h.e.TimeH(), UntilH: cfg.Curing.UntilH, Alpha: h.e.Alpha(), HeatFlowMWPerG: last[colFlow]})
+		}
+		due := policy.SimH > 0 && h.e.TimeH()-lastCk >= policy.SimH-1e-9 || policy.Wall > 0 && time.Since(lastWall) >= policy.Wall
+		if due && h.st.Next < len(h.ages) {
+			h.st.WallS += time.Since(start).Seconds()
+			start = time.Now()
+			if err := saveCheckpoint(o.Out, h); err != nil {
+				return nil, err
+			}
+			lastCk, lastWall = h.e.TimeH(), time.Now()
+			if o.AfterCheckpoint != nil {
+				if err := o.AfterCheckpoint(); err != nil {
+					return nil, err
+				}
+			}
+		}
+	}
+	h.st.WallS += time.Since(start).Seconds()
+	if err := writeRunOutputs(o.Out, m, h, o.Images); err != nil {
+		return nil, err
+	}
+	os.Remove(filepath.Join(o.Out, CheckpointFile))
+	last := h.st.Samples[len(h.st.Samples)-1]
+	return &Result{TimeH: last[colTime], Alpha: last[colAlpha], HeatJPerG: last[colHeat], CapillaryPorosity: last[colCapPor],
+		Set: h.st.Set, Depercolation: h.st.Deperc, WallS: h.st.WallS}, nil
+}
+
+// saveCheckpoint writes the engine and the run's progress atomically.
+func saveCheckpoint(dir string, h *hydration) error {
+	extra, err := h.marshalState()
+	if err != nil {
+		return err
+	}
+	return render.WriteFileAtomic(filepath.Join(dir, CheckpointFile), func(w io.Writer) error {
+		return h.e.WriteCheckpoint(w, &h.set, extra)
+	})
+}
+
+// ConfigFromManifest rebuilds a config from its text (as saved in
+// run.json), applying the overrides in sets.
+func ConfigFromManifest(name, dir string, data []byte, sets []string) (*configs.Config, error) {
+	raw, err := configs.ParseRaw(name, dir, data)
+	if err != nil {
+		return nil, err
+	}
+	return configs.FromRaw(raw, sets)
+}
+
+var errNoSamples = errors.New("run: no sample recorded")
+
+// writeSeriesCSV writes rows with the series columns; NaN cells are empty.
+func writeSeriesCSV(w io.Writer, rows [][]float64) error {
+	var b bytes.Buffer
+	b.WriteString(strings.Join(seriesColumns(), ","))
+	b.WriteByte('\n')
+	for _, r := range rows {
+		for j, v := range r {
+			if j > 0 {
+				b.WriteByte(',')
+			}
+			if !math.IsNaN(v) {
+				b.WriteString(strconv.FormatFloat(v, 'g', 8, 64))
+			}
+		}
+		b.WriteByte('\n')
+	}
+	_, err := w.Write(b.Bytes())
+	return err
+}
