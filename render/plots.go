@@ -385,7 +385,7 @@ func RenderPlots(s *Series, opt PlotOptions) ([]Figure, error) {
 			p.Y.Min, p.Y.Max = 0, 1.05
 			timeRange(p, t, logX)
 			if x := opt.SetTimeH; x > 0 {
-				vline(p, fmt.Sprintf("set %s", fmtAge(x)), x, 0, 1.05, color.RGBA{0x8a, 0x50, 0x10, 0xff})
+				vline(p, fmt.Sprintf("model set point %s, not a Vicat time", fmtHMin(x)), x, 0, 1.05, color.RGBA{0x8a, 0x50, 0x10, 0xff})
 			}
 			if x := opt.DepercolationTimeH; x > 0 {
 				vline(p, fmt.Sprintf("pore depercolation %s", fmtAge(x)), x, 0, 1.05, color.RGBA{0x20, 0x40, 0x90, 0xff})

@@ -242,6 +242,13 @@ func drawAxisGlyph(dc *gg.Context, x, y float64, hn, vn string) {
 // fmtNum prints a length or size compactly: 0.5, 1, 12.5, 100.
 func fmtNum(v float64) string { return fmt.Sprintf("%.4g", v) }
 
+// fmtHMin prints an age in hours and in hours and minutes: "5.5 h (5 h 30
+// min)".
+func fmtHMin(h float64) string {
+	m := int(math.Round(h * 60))
+	return fmt.Sprintf("%.4g h (%d h %02d min)", h, m/60, m%60)
+}
+
 // fmtAge prints an age in hours, adding days from one day on.
 func fmtAge(h float64) string {
 	if h >= 24 {
