@@ -76,11 +76,12 @@ const NumIDs = 256
 
 // Phase describes one phase. Densities and molar masses are from Taylor,
 // Cement Chemistry (1997) and Balonis & Glasser, Cem. Concr. Res. 39 (2009)
-// 733, as collected in REFERENCES.md (recalled, not re-read).
+// 733, from memory (recalled, not re-read), except where a row says
+// otherwise.
 type Phase struct {
 	ID   ID
 	Key  string // config and column key: "c3s", "csh_inner"
-	Name string // trade name in cement chemist notation: "C3S", "C-S-H"
+	Name string // cement chemist notation, with the mineral name where there is one: "C3S (alite)", "C-S-H (inner)"
 	Role Role
 
 	DensityGPerCM3   float64 // 0 for pores
@@ -90,7 +91,8 @@ type Phase struct {
 	// after D-drying (non-evaporable water). Used for hydrates only.
 	BoundWaterMol float64
 
-	// MeanZ is the mass-weighted mean atomic number, which sets the grey
+	// MeanZ is the mass-weighted mean atomic number of the phase's formula,
+	// for hydrates with their water (Fe(OH)3, not Fe2O3), which sets the grey
 	// level of the phase in a backscattered-electron-like image.
 	MeanZ float64
 
@@ -117,58 +119,70 @@ const WaterDensity = 0.998
 // WaterMolarMass is the molar mass of H2O in g/mol.
 const WaterMolarMass = 18.015
 
-// phases is the table. Colours are gelspace's own palette, in families:
-// clinker in warm earth tones, sulfates and fillers in pale neutrals and
-// violet, hydrates in blues and greens, pores dark. Neighbouring families
-// differ in lightness as well as hue so that colour-blind viewers can tell
-// them apart.
+// phases is the table. Colours are gelspace's own palette, one hue family
+// per id block: pores very dark, clinker reds and magentas (C3S a strong
+// red), sulfates yellows, fillers greys, SCMs blues and violets, hydrates
+// greens through teals (CH a green). The render package documents the
+// families and checks the distances, together with the colours it holds
+// for the phases still to come.
 var phases = []Phase{
-	{ID: Water, Key: "water", Name: "capillary water", Role: RolePore, MeanZ: 7.2,
-		Colour: color.RGBA{0x0a, 0x02, 0x4e, 0xff}},
-	{ID: Empty, Key: "empty", Name: "empty pore", Role: RolePore, MeanZ: 0,
-		Colour: color.RGBA{0x00, 0x00, 0x00, 0xff}},
+	{ID: Water, Key: "water", Name: "water-filled capillary pore", Role: RolePore, MeanZ: 7.22,
+		Colour: color.RGBA{0x0f, 0x11, 0x44, 0xff}},
+	{ID: Empty, Key: "empty", Name: "empty capillary pore (self-desiccation)", Role: RolePore, MeanZ: 0,
+		Colour: color.RGBA{0x0a, 0x00, 0x00, 0xff}},
 
 	// C3S 3CaO·SiO2; the MeanZ figures are computed from the formulas.
-	{ID: C3S, Key: "c3s", Name: "C3S", Role: RoleClinker, DensityGPerCM3: 3.15, MolarMassGPerMol: 228.32, MeanZ: 15.06,
-		Colour: color.RGBA{0x98, 0x66, 0x2a, 0xff}},
-	{ID: C2S, Key: "c2s", Name: "C2S", Role: RoleClinker, DensityGPerCM3: 3.28, MolarMassGPerMol: 172.24, MeanZ: 14.56,
-		Colour: color.RGBA{0xff, 0xce, 0x14, 0xff}},
-	{ID: C3A, Key: "c3a", Name: "C3A", Role: RoleClinker, DensityGPerCM3: 3.03, MolarMassGPerMol: 270.19, MeanZ: 14.34,
-		Colour: color.RGBA{0x7b, 0x23, 0x24, 0xff}},
-	{ID: C4AF, Key: "c4af", Name: "C4AF", Role: RoleClinker, DensityGPerCM3: 3.73, MolarMassGPerMol: 485.96, MeanZ: 16.65,
-		Colour: color.RGBA{0x60, 0x2f, 0x56, 0xff}},
+	{ID: C3S, Key: "c3s", Name: "C3S (alite)", Role: RoleClinker, DensityGPerCM3: 3.15, MolarMassGPerMol: 228.32, MeanZ: 15.06,
+		Colour: color.RGBA{0xdc, 0x24, 0x43, 0xff}},
+	{ID: C2S, Key: "c2s", Name: "C2S (belite)", Role: RoleClinker, DensityGPerCM3: 3.28, MolarMassGPerMol: 172.24, MeanZ: 14.56,
+		Colour: color.RGBA{0xff, 0x87, 0xd0, 0xff}},
+	{ID: C3A, Key: "c3a", Name: "C3A (aluminate)", Role: RoleClinker, DensityGPerCM3: 3.03, MolarMassGPerMol: 270.19, MeanZ: 14.34,
+		Colour: color.RGBA{0xa9, 0x03, 0x7c, 0xff}},
+	{ID: C4AF, Key: "c4af", Name: "C4AF (ferrite)", Role: RoleClinker, DensityGPerCM3: 3.73, MolarMassGPerMol: 485.96, MeanZ: 16.65,
+		Colour: color.RGBA{0x53, 0x01, 0x31, 0xff}},
 	{ID: Gypsum, Key: "gypsum", Name: "gypsum", Role: RoleSulfate, DensityGPerCM3: 2.32, MolarMassGPerMol: 172.17, MeanZ: 12.12,
-		Colour: color.RGBA{0xe0, 0xf0, 0xff, 0xff}},
-	{ID: Hemihydrate, Key: "hemihydrate", Name: "hemihydrate", Role: RoleSulfate, DensityGPerCM3: 2.74, MolarMassGPerMol: 145.15, MeanZ: 13.20,
-		Colour: color.RGBA{0xbf, 0xf0, 0xbe, 0xff}},
+		Colour: color.RGBA{0xf0, 0xe3, 0xa8, 0xff}},
+	{ID: Hemihydrate, Key: "hemihydrate", Name: "hemihydrate", Role: RoleSulfate, DensityGPerCM3: 2.74, MolarMassGPerMol: 145.15, MeanZ: 13.03,
+		Colour: color.RGBA{0xef, 0xdd, 0x55, 0xff}},
 	{ID: Anhydrite, Key: "anhydrite", Name: "anhydrite", Role: RoleSulfate, DensityGPerCM3: 2.97, MolarMassGPerMol: 136.14, MeanZ: 13.42,
-		Colour: color.RGBA{0xd0, 0x9a, 0xaf, 0xff}},
+		Colour: color.RGBA{0xa8, 0x9a, 0x37, 0xff}},
 	{ID: Calcite, Key: "calcite", Name: "limestone (CaCO3)", Role: RoleFiller, DensityGPerCM3: 2.71, MolarMassGPerMol: 100.09, MeanZ: 12.56,
-		Colour: color.RGBA{0x7b, 0x7f, 0xf1, 0xff}},
+		Colour: color.RGBA{0x7e, 0x71, 0x75, 0xff}},
 	{ID: Inert, Key: "inert", Name: "inert filler", Role: RoleFiller, DensityGPerCM3: 2.65, MolarMassGPerMol: 60.08, MeanZ: 10.80,
-		Colour: color.RGBA{0x71, 0x22, 0xa1, 0xff}},
+		Colour: color.RGBA{0xe3, 0xea, 0xf5, 0xff}},
 
 	// C-S-H as C1.7SH4 (saturated, gel water included); D-dry C1.7SH1.4.
-	// REFERENCES.md gives ρ 2.12 g/cm³ and Vm ≈ 108 cm³/mol, which differ
+	// The recalled figures, ρ 2.12 g/cm³ and Vm ≈ 108 cm³/mol, differ
 	// by their rounding (227.5/2.12 = 107.3); the density here, 2.106, keeps
 	// the tabled molar volume of 108 cm³/mol, which is what the volume
 	// stoichiometry uses.
 	{ID: CSHInner, Key: "csh_inner", Name: "C-S-H (inner)", Role: RoleHydrate, DensityGPerCM3: 2.106, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 12.09,
-		Colour: color.RGBA{0x17, 0xb7, 0x6e, 0xff}},
+		Colour: color.RGBA{0x1f, 0x7c, 0x4c, 0xff}},
 	{ID: CSHOuter, Key: "csh_outer", Name: "C-S-H (outer)", Role: RoleHydrate, DensityGPerCM3: 2.106, MolarMassGPerMol: 227.5, BoundWaterMol: 1.4, MeanZ: 12.09,
-		Colour: color.RGBA{0xab, 0xf1, 0x77, 0xff}},
-	{ID: CH, Key: "ch", Name: "CH", Role: RoleHydrate, DensityGPerCM3: 2.24, MolarMassGPerMol: 74.09, BoundWaterMol: 1, MeanZ: 14.3,
-		Colour: color.RGBA{0x30, 0x55, 0xff, 0xff}},
+		Colour: color.RGBA{0x80, 0xc0, 0x70, 0xff}},
+	{ID: CH, Key: "ch", Name: "CH (portlandite)", Role: RoleHydrate, DensityGPerCM3: 2.24, MolarMassGPerMol: 74.09, BoundWaterMol: 1, MeanZ: 14.3,
+		Colour: color.RGBA{0xcc, 0xff, 0x8d, 0xff}},
 	// Ettringite keeps about 10 of its 32 H2O on D-drying (memory).
-	{ID: AFt, Key: "aft", Name: "AFt (ettringite)", Role: RoleHydrate, DensityGPerCM3: 1.78, MolarMassGPerMol: 1255.1, BoundWaterMol: 10, MeanZ: 10.8,
-		Colour: color.RGBA{0xd3, 0x27, 0xa2, 0xff}},
-	{ID: AFm, Key: "afm", Name: "AFm (monosulfate)", Role: RoleHydrate, DensityGPerCM3: 2.01, MolarMassGPerMol: 622.5, BoundWaterMol: 8, MeanZ: 11.6,
-		Colour: color.RGBA{0xf5, 0x9e, 0xfa, 0xff}},
-	{ID: Hydrogarnet, Key: "hydrogarnet", Name: "hydrogarnet (C3AH6)", Role: RoleHydrate, DensityGPerCM3: 2.52, MolarMassGPerMol: 378.3, BoundWaterMol: 6, MeanZ: 12.4,
-		Colour: color.RGBA{0x54, 0x77, 0x64, 0xff}},
-	// (F,A)H3 taken as Fe2O3·3H2O; density 3.0 g/cm³ is an assumed value.
-	{ID: FH3, Key: "fh3", Name: "FH3", Role: RoleHydrate, DensityGPerCM3: 3.0, MolarMassGPerMol: 213.7, BoundWaterMol: 3, MeanZ: 17.6,
-		Colour: color.RGBA{0x93, 0x9d, 0x02, 0xff}},
+	{ID: AFt, Key: "aft", Name: "AFt (ettringite)", Role: RoleHydrate, DensityGPerCM3: 1.78, MolarMassGPerMol: 1255.1, BoundWaterMol: 10, MeanZ: 10.77,
+		Colour: color.RGBA{0x17, 0xa0, 0xab, 0xff}},
+	{ID: AFm, Key: "afm", Name: "AFm (monosulfate)", Role: RoleHydrate, DensityGPerCM3: 2.01, MolarMassGPerMol: 622.5, BoundWaterMol: 8, MeanZ: 11.66,
+		Colour: color.RGBA{0x00, 0xdf, 0xff, 0xff}},
+	{ID: Hydrogarnet, Key: "hydrogarnet", Name: "hydrogarnet (C3AH6)", Role: RoleHydrate, DensityGPerCM3: 2.52, MolarMassGPerMol: 378.3, BoundWaterMol: 6, MeanZ: 12.30,
+		Colour: color.RGBA{0x00, 0x43, 0x56, 0xff}},
+	// FH3 is the iron end of the (F,A)H3 hydroxide: the reactions send the
+	// Al of the ferrite into AFt, AFm or hydrogarnet and its Fe here, so the
+	// phase is Fe2O3·3H2O = 2 Fe(OH)3 (M = 2 × 106.87 = 213.7 g/mol), which
+	// keeps the reactions balanced by mass. Its molar volume is that of
+	// microcrystalline Fe(OH)3 in Cemdata18 (Lothenbach et al., Cem. Concr.
+	// Res. 115 (2019) 472), 34.36 cm³/mol per Fe(OH)3 — from memory, the
+	// table could not be read here — so Vm = 68.72 cm³/mol and
+	// ρ = 213.7/68.72 = 3.11 g/cm³. (The Al end, microcrystalline Al(OH)3,
+	// 32.22 cm³/mol and 2.42 g/cm³ in the same dataset, also from memory, is
+	// not a phase here.) Mean Z is that of Fe(OH)3 with its water, 17.21:
+	// iron-rich, it stays above ferrite's 16.65, so in the BSE-like grey it
+	// is no darker than ferrite; its name says what it is.
+	{ID: FH3, Key: "fh3", Name: "FH3 (iron hydroxide)", Role: RoleHydrate, DensityGPerCM3: 3.11, MolarMassGPerMol: 213.7, BoundWaterMol: 3, MeanZ: 17.21,
+		Colour: color.RGBA{0x05, 0x39, 0x0e, 0xff}},
 }
 
 var byID [NumIDs]*Phase

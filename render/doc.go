@@ -12,7 +12,12 @@
 // In every slice image the horizontal image axis is the first in-plane axis
 // (x for xy and xz, y for yz) increasing to the right, and the vertical axis is
 // the second (y for xy, z for xz and yz) increasing upwards, as drawn by the
-// axis glyph in the image's corner.
+// axis glyph in the image's corner. A slice is named by its index k along
+// the plane's normal and by the position of its voxel centres, (k + 0.5)·h
+// µm for voxels of edge h (SliceTitle), in every image.
+//
+// Volumes in plots are fractions of the paste volume: the whole box, solids
+// and pores (water-filled and empty) together; axis labels and titles say so.
 //
 // Files are written through a temporary name in the destination folder and
 // renamed into place, so no reader sees a half-written file.

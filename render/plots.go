@@ -351,7 +351,7 @@ func RenderPlots(s *Series, opt PlotOptions) ([]Figure, error) {
 
 	// Capillary porosity and the Powers model.
 	{
-		p := newPlot("Capillary porosity", "volume fraction of paste (–)", opt)
+		p := newPlot("Capillary porosity (fraction of the paste volume)", "volume fraction of the paste (–)", opt)
 		any := addCurve(p, "capillary porosity (model)", t, col("capillary_porosity"), curveStyle{colour: color.RGBA{0x20, 0x40, 0x90, 0xff}, width: 2.4}, logX, false)
 		any = addCurve(p, "water-filled porosity (model)", t, col("water_filled_porosity"), curveStyle{colour: color.RGBA{0x30, 0x90, 0xc0, 0xff}, width: 1.8, dashes: dashSets[1]}, logX, false) || any
 		alpha := col("alpha")
@@ -385,7 +385,7 @@ func RenderPlots(s *Series, opt PlotOptions) ([]Figure, error) {
 			p.Y.Min, p.Y.Max = 0, 1.05
 			timeRange(p, t, logX)
 			if x := opt.SetTimeH; x > 0 {
-				vline(p, fmt.Sprintf("set %s", fmtAge(x)), x, 0, 1.05, color.RGBA{0x8a, 0x50, 0x10, 0xff})
+				vline(p, fmt.Sprintf("model set point %s, not a Vicat time", fmtHMin(x)), x, 0, 1.05, color.RGBA{0x8a, 0x50, 0x10, 0xff})
 			}
 			if x := opt.DepercolationTimeH; x > 0 {
 				vline(p, fmt.Sprintf("pore depercolation %s", fmtAge(x)), x, 0, 1.05, color.RGBA{0x20, 0x40, 0x90, 0xff})
@@ -419,8 +419,8 @@ func RenderPlots(s *Series, opt PlotOptions) ([]Figure, error) {
 	return figs, nil
 }
 
-// volumePlot draws the vol_<phase> columns as stacked areas with the legend
-// beside the plot. Rows with a missing time or any missing volume are left
+// volumePlot draws the vol_<phase> columns (fractions of the paste volume)
+// as stacked areas with the legend beside the plot. Rows with a missing time or any missing volume are left
 // out.
 func volumePlot(s *Series, t []float64, opt PlotOptions) (Figure, bool, error) {
 	type band struct {
@@ -459,7 +459,7 @@ func volumePlot(s *Series, t []float64, opt PlotOptions) (Figure, bool, error) {
 	if len(rows) == 0 {
 		return Figure{}, false, nil
 	}
-	p := newPlot("Phase volume fractions", "volume fraction of the box (–)", opt)
+	p := newPlot("Phase volumes (fraction of the paste volume)", "volume fraction of the paste (–)", opt)
 	leg := plotLegend()
 	leg.Padding = vg.Points(4)
 	leg.Top, leg.Left = true, true
@@ -509,8 +509,13 @@ func volumePlot(s *Series, t []float64, opt PlotOptions) (Figure, bool, error) {
 	p.Y.Min, p.Y.Max = 0, math.Max(1, top)
 	timeRange(p, t, !opt.LinearTime)
 	p.Legend = plotLegend()
+	// The legend column is as wide as its longest entry needs (thumbnail,
+	// a space, the text) plus a margin, and at least 2.1 in.
+	legW := vg.Length(2.1) * vg.Inch
+	for _, e := range entries {
+		legW = max(legW, leg.ThumbnailWidth+leg.TextStyle.Width(" "+e.name)+vg.Points(16))
+	}
 	f, err := figure("volumes", p.Title.Text, plotWidthIn+2, plotHeightIn+1, func(dc draw.Canvas) {
-		legW := vg.Length(2.1) * vg.Inch
 		p.Draw(draw.Crop(dc, 0, -legW, 0, 0))
 		leg.Draw(draw.Crop(dc, dc.Max.X-dc.Min.X-legW+vg.Points(10), 0, 0, -vg.Points(30)))
 	})

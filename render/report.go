@@ -78,6 +78,11 @@ func WriteReport(w io.Writer, r *Report) error {
 	})
 }
 
+// SetPointLabel names the model's set point wherever it is shown: the age
+// at which the solids first form a cluster spanning the box. It is a model
+// estimate, not the result of a Vicat needle test.
+const SetPointLabel = "Model set point (solids percolate; not a Vicat time)"
+
 // KeyResults returns the key-result rows of a series: set and
 // depercolation times (NaN or ≤ 0: "not reached"), then α and cumulative
 // heat at 1, 3, 7 and 28 days where the series reaches them.
@@ -86,9 +91,9 @@ func KeyResults(s *Series, setTimeH, depercolationTimeH float64) []Row {
 		if !(h > 0) || math.IsInf(h, 0) {
 			return "not reached"
 		}
-		return fmtAge(h)
+		return fmtHMin(h)
 	}
-	rows := []Row{{"Set (solids percolate)", when(setTimeH)}, {"Capillary pores depercolate", when(depercolationTimeH)}}
+	rows := []Row{{SetPointLabel, when(setTimeH)}, {"Capillary pores depercolate", when(depercolationTimeH)}}
 	for _, d := range []float64{1, 3, 7, 28} {
 		a, okA := s.At("alpha", 24*d)
 		q, okQ := s.At("heat_j_per_g", 24*d)

@@ -125,7 +125,7 @@ func TestKeyResults(t *testing.T) {
 	for _, r := range rows {
 		got[r.Label] = r.Value
 	}
-	if got["Set (solids percolate)"] != "5.5 h" || got["Capillary pores depercolate"] != "not reached" {
+	if got[SetPointLabel] != "5.5 h (5 h 30 min)" || got["Capillary pores depercolate"] != "not reached" {
 		t.Errorf("rows %v", rows)
 	}
 	for _, k := range []string{"Degree of hydration at 1 d", "Heat at 28 d"} {

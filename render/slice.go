@@ -22,8 +22,20 @@ type SliceOptions struct {
 	// ShowAge prints AgeH, the simulated age in hours, in the header.
 	ShowAge bool
 	AgeH    float64
-	// Title replaces the default first header line ("xy slice at z = …").
+	// Title replaces the default first header line, SliceTitle(plane, pos,
+	// voxel size). A caller that renders one plane cut out of a larger box
+	// passes SliceTitle of the plane's place in that box.
 	Title string
+}
+
+// SliceTitle returns the header line of the slice at index pos along the
+// plane's normal: "xy slice at z = 20 (voxel centres at 20.5 µm)". Voxel k
+// spans [k·h, (k+1)·h) along an axis of a box of voxel edge h, so the plane
+// of index k is named by the position of its voxel centres, (k + 0.5)·h µm.
+// Every slice, time-lapse and report title uses this one convention.
+func SliceTitle(plane Plane, pos int, voxelUM float64) string {
+	_, _, n := plane.axes()
+	return fmt.Sprintf("%s slice at %s = %d (voxel centres at %s µm)", plane, n, pos, fmtNum((float64(pos)+0.5)*voxelUM))
 }
 
 // MaxSlicePX bounds the automatic magnification: a slice of a 50–200 voxel
@@ -140,10 +152,10 @@ func drawSlice(data []uint8, w, h int, voxelUM float64, plane Plane, pos int, id
 	dc.Stroke()
 
 	// Header.
-	hn, vn, nn := plane.axes()
+	hn, vn, _ := plane.axes()
 	title := opt.Title
 	if title == "" {
-		title = fmt.Sprintf("%s slice at %s = %d (%s µm)", plane, nn, pos, fmtNum((float64(pos)+0.5)*voxelUM))
+		title = SliceTitle(plane, pos, voxelUM)
 	}
 	fs.set(dc, fs.title)
 	dc.SetColor(color.Black)
@@ -229,6 +241,13 @@ func drawAxisGlyph(dc *gg.Context, x, y float64, hn, vn string) {
 
 // fmtNum prints a length or size compactly: 0.5, 1, 12.5, 100.
 func fmtNum(v float64) string { return fmt.Sprintf("%.4g", v) }
+
+// fmtHMin prints an age in hours and in hours and minutes: "5.5 h (5 h 30
+// min)".
+func fmtHMin(h float64) string {
+	m := int(math.Round(h * 60))
+	return fmt.Sprintf("%.4g h (%d h %02d min)", h, m/60, m%60)
+}
 
 // fmtAge prints an age in hours, adding days from one day on.
 func fmtAge(h float64) string {

@@ -312,3 +312,22 @@ func TestRenderVolumeFiles(t *testing.T) {
 		t.Error("missing folder: no error")
 	}
 }
+
+// One slice-position convention: index k and the voxel centres at
+// (k + 0.5)·h µm.
+func TestSliceTitleConvention(t *testing.T) {
+	for _, c := range []struct {
+		pl   Plane
+		pos  int
+		h    float64
+		want string
+	}{
+		{PlaneXY, 20, 1, "xy slice at z = 20 (voxel centres at 20.5 µm)"},
+		{PlaneXZ, 2, 0.5, "xz slice at y = 2 (voxel centres at 1.25 µm)"},
+		{PlaneYZ, 0, 2, "yz slice at x = 0 (voxel centres at 1 µm)"},
+	} {
+		if got := SliceTitle(c.pl, c.pos, c.h); got != c.want {
+			t.Errorf("SliceTitle(%s, %d, %g) = %q; want %q", c.pl, c.pos, c.h, got, c.want)
+		}
+	}
+}

@@ -13,6 +13,9 @@ import (
 // some empty pores. frac in [0, 1] moves it from fresh (0) to mature (1).
 func synthVolume(n int, frac float64, seed uint64) Volume {
 	v := Volume{Phase: make([]uint8, n*n*n), NX: n, NY: n, NZ: n, VoxelUM: 1}
+	for i := range v.Phase {
+		v.Phase[i] = kinetics.Water // 0 is not a phase
+	}
 	rng := rand.New(rand.NewPCG(seed, 7))
 	at := func(x, y, z int) int {
 		x, y, z = (x%n+n)%n, (y%n+n)%n, (z%n+n)%n
