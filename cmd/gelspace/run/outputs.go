@@ -207,7 +207,7 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *Summary) error {
 			look := look
 			jobs = append(jobs, func() error {
 				img, err := render.RenderSlice(plane, render.PlaneXY, 0, render.SliceOptions{Look: look, ShowAge: true, AgeH: age,
-					Title: fmt.Sprintf("xy slice at z = %d (%g µm)", g.NZ/2, float64(g.NZ/2)*g.VoxelUM)})
+					Title: render.SliceTitle(render.PlaneXY, g.NZ/2, g.VoxelUM)})
 				if err != nil {
 					return err
 				}
@@ -228,7 +228,8 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *Summary) error {
 	}
 	jobs = append(jobs, func() error {
 		return render.WriteFileAtomic(filepath.Join(dir, "timelapse.gif"), func(w io.Writer) error {
-			return render.WriteTimeLapse(w, frames, g.NX, g.NY, 1, g.VoxelUM, render.PlaneXY, 0, render.SliceOptions{Look: render.LookPhase})
+			return render.WriteTimeLapse(w, frames, g.NX, g.NY, 1, g.VoxelUM, render.PlaneXY, 0,
+				render.SliceOptions{Look: render.LookPhase, Title: render.SliceTitle(render.PlaneXY, g.NZ/2, g.VoxelUM)})
 		})
 	})
 	for slot, look := range []render.Look{render.LookPhase, render.LookBSE} {
