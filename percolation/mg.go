@@ -389,55 +389,88 @@ func (s *Solver) fineAggregates(c *gLevel) int {
 	return int(na)
 }
 
-// visitEdges visits the bonds of the active fine voxels to their +x, +y,
-// +z neighbours in raster order (see edgeSource).
-func (s *Solver) visitEdges(c *gLevel, pass int) {
-	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
-	openX := !s.box.Periodic[0] || nx == 1
-	for z := range nz {
-		for y := range ny {
-			cr, _, cyp, _, czp, row, _, yp, _, zp := s.rowClasses(y, z)
-			for x := range nx {
-				I := s.agg[row+x]
-				if I < 0 {
-					continue
-				}
-				ci := int(cr[x]) << 8
-				xp := x + 1
-				if xp == nx {
-					xp = 0
-				}
-				if !(openX && x == nx-1) {
-					if g := s.gt[ci|int(cr[xp])]; g > 0 {
-						c.emit(pass, I, s.agg[row+xp], g)
+// assembleFine builds coarse level c, of nc aggregates, from the fine
+// level: the Galerkin operator Pᵀ A P, aggregate by aggregate. The voxels
+// of aggregate I lie in its 2×2×2 block; their bonds to other aggregates J
+// are summed into the entry (I, J) of row I, in the order they are met
+// (voxels in raster order, bonds +x, −x, +y, −y, +z, −z), and the diagonal
+// is the sum of their diagonals less each bond inside the aggregate, met
+// once from each end. The rows are written in order, merged as they are
+// formed, so no unmerged entries are held.
+func (s *Solver) assembleFine(c *gLevel, nc int) {
+	box := s.box
+	nx, ny, nz := box.NX, box.NY, box.NZ
+	dims := box.dims()
+	c.n = nc
+	c.ptr = growI32(c.ptr, nc+1)
+	c.diag = grow(c.diag, nc)
+	c.invd = grow(c.invd, nc)
+	c.f = grow(c.f, nc)
+	c.x = grow(c.x, nc)
+	c.col, c.val = c.col[:0], c.val[:0]
+	dg := s.rows[0][1]
+	for I := range nc {
+		c.ptr[I] = int32(len(c.col))
+		start := len(c.col)
+		var diag float64
+		b := c.blk[3*I : 3*I+3]
+		for z := 2 * int(b[2]); z < min(2*int(b[2])+2, nz); z++ {
+			for y := 2 * int(b[1]); y < min(2*int(b[1])+2, ny); y++ {
+				for x := 2 * int(b[0]); x < min(2*int(b[0])+2, nx); x++ {
+					i := box.Index(x, y, z)
+					if s.agg[i] != int32(I) {
+						continue
+					}
+					s.gather(nil, y, z, x, nx, nil, dg)
+					diag += dg[x]
+					ci := int(s.cls[i]) << 8
+					for k := range 3 {
+						if dims[k] == 1 {
+							continue // no bond to itself
+						}
+						for _, step := range [2]int{1, -1} {
+							q := [3]int{x, y, z}
+							q[k] += step
+							if q[k] < 0 || q[k] >= dims[k] {
+								if !box.Periodic[k] {
+									continue
+								}
+								q[k] = (q[k] + dims[k]) % dims[k]
+							}
+							j := box.Index(q[0], q[1], q[2])
+							g := s.gt[ci|int(s.cls[j])]
+							if g == 0 {
+								continue
+							}
+							J := s.agg[j]
+							if J == int32(I) {
+								diag -= float64(g)
+								continue
+							}
+							found := false
+							for e := start; e < len(c.col); e++ {
+								if c.col[e] == J {
+									c.val[e] += g
+									found = true
+									break
+								}
+							}
+							if !found {
+								c.col = append(c.col, J)
+								c.val = append(c.val, g)
+							}
+						}
 					}
 				}
-				if g := s.gt[ci|int(cyp[x])]; g > 0 {
-					c.emit(pass, I, s.agg[yp+x], g)
-				}
-				if g := s.gt[ci|int(czp[x])]; g > 0 {
-					c.emit(pass, I, s.agg[zp+x], g)
-				}
 			}
 		}
-	}
-}
-
-// visitDiag adds the diagonal of each active fine voxel to its aggregate's.
-func (s *Solver) visitDiag(c *gLevel) {
-	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
-	dg := s.rows[0][1]
-	for z := range nz {
-		for y := range ny {
-			s.gather(nil, y, z, 0, 1, nil, dg)
-			row := nx * (y + ny*z)
-			for x, I := range s.agg[row : row+nx] {
-				if I >= 0 {
-					c.diag[I] += dg[x]
-				}
-			}
+		c.diag[I] = diag
+		c.invd[I] = 0
+		if diag > 1e-300 {
+			c.invd[I] = 1 / diag
 		}
 	}
+	c.ptr[nc] = int32(len(c.col))
 }
 
 // mgBuild builds the coarse levels for the current axis, unless the levels
@@ -468,7 +501,7 @@ func (s *Solver) mgBuild() {
 	}
 	s.mg = s.mg[:1]
 	c := &s.mg[0]
-	c.assemble(s.fineAggregates(c), s)
+	s.assembleFine(c, s.fineAggregates(c))
 	for {
 		c := &s.mg[len(s.mg)-1]
 		if c.n <= mgCoarsestLen || c.dims == [3]int{1, 1, 1} {
