@@ -12,6 +12,7 @@ import (
 // Solver defaults.
 const (
 	DefaultTol     = 1e-6  // relative residual at which conjugate gradients stop
+	FloorTol       = 1e-7  // smallest tolerance used: the floor of single-precision vectors
 	DefaultMaxIter = 20000 // iteration cap per axis
 )
 
@@ -50,7 +51,10 @@ type DiffusivityOptions struct {
 	Table *[kinetics.NumIDs]float64
 
 	// Tol is the relative residual ‖b − Ax‖₂/‖b‖₂ at which the solve of
-	// one axis stops, within (0, 1); 0 means DefaultTol.
+	// one axis stops, within (0, 1); 0 means DefaultTol. A tolerance below
+	// FloorTol is raised to it: the vectors are stored in single precision,
+	// which bounds the residual reachable to about that, while D/D0, second
+	// order in the error of the solution, is then exact to about 1e-12.
 	Tol float64
 
 	// MaxIter caps the iterations per axis, ≥ 0; 0 means DefaultMaxIter.
@@ -89,43 +93,66 @@ func DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, 
 	return s.DiffusivityField(box, d, opt)
 }
 
+// MaxFieldValues is the number of distinct nonzero diffusivities that
+// DiffusivityField accepts: each voxel's value is stored as a one-byte class.
+const MaxFieldValues = 254
+
 // Solver holds the work arrays of the diffusivity solve so that repeated
 // solves (a time series) allocate nothing once sized. The zero value is
 // ready to use; a Solver is not safe for concurrent use.
+//
+// Memory: per voxel of the box, four float32 vectors (the fluctuation w,
+// the residual r, the search direction p and the preconditioned residual
+// z, which also holds A p), the aggregate of each voxel (int32, −1 off the
+// active set) and the labelling of the conducting clusters (an int32 and a
+// bool), 25 bytes, plus the coarse levels (about an eighth of the active
+// voxels each). Conductances are not stored: each bond's is looked up from
+// the classes (phase ids) of its two voxels.
 type Solver struct {
-	lab         Labeler
-	in          []bool
-	dbuf        []float64
-	g           [3][]float32 // g[k][i]: conductance of the bond from i to its +k neighbour
-	invd        []float32    // Jacobi preconditioner; 0 outside the active set
-	r           []float64
-	p           []float64
-	q           []float64
-	part        [][3]float64  // per z plane partial sums, added in plane order
-	dg          []float64     // diagonal of A, for the coarse levels
-	z           []float64     // multigrid: preconditioned residual
-	fine        mgLevel       // multigrid: the fine level, on the arrays above
-	mg          []gLevel      // multigrid coarse levels
-	agg, uf     []int32       // multigrid: aggregate of each fine voxel; union–find scratch
-	col         [2]colourList // multigrid: active fine voxels of each colour (proper colouring only)
-	mgColour    int           // colour of the fine half sweep
-	mgFirst     bool          // the fine half sweep starts from z = 0
-	mgReverse   bool          // the fine half sweep runs in reverse order (improper colouring)
-	resColour   int           // colour of the fine residual, or −1 for all voxels
-	mvIn, mvOut []float64     // vectors of matvec
-	jacobiOnly  bool          // tests: Jacobi preconditioner alone
+	lab  Labeler
+	in   []bool
+	fcls []uint8 // classes of a DiffusivityField solve
+
+	// The model: the class of each voxel (phase ids, or the classes of a
+	// field), D/D0 per class and the conductance of a bond between two
+	// classes, gt[ci<<8 | cj]. Class sentinel (255) is insulating, seen
+	// across open faces.
+	cls  []uint8
+	dtab []float64
+	gt   *[1 << 16]float32
+	ins  []uint8 // a row of the sentinel class
+
+	w, r, p, z []float32
+	invd       []float32    // 1/A_ii on the active set, 0 elsewhere: the smoother's diagonal
+	part       [][3]float64 // per z plane partial sums, added in plane order
+	rows       [][2][]float64
+	agg        []int32  // aggregate on coarse level 0 of each voxel, −1 off the active set
+	mg         []gLevel // multigrid coarse levels
+	stack      []int32  // aggregation scratch
+	cuf        []int32  // union–find scratch of the coarse levels
+	hierOK     bool     // the levels in mg were built in this solve
+	hierElec   int      // electrode axis of the levels in mg
+	hierAct    []bool   // per cluster: active in the levels in mg
+	jacobiOnly bool     // tests: Jacobi preconditioner alone
 
 	// set per pass
-	op          int // passSetup, passMatvec, passUpdate, passDirection
-	axisA       int
-	cl          *Clusters
+	op          int
+	mgColour    int  // colour of the fine half sweep
+	mgFirst     bool // the half sweep starts from x = 0
+	mgReverse   bool // the half sweep runs in reverse raster order
+	resColour   int  // colour of the fine residual, or −1 for all voxels
+	mvIn, mvOut []float32
 	alpha, beta float64
+
+	// set per axis
+	axisA int
+	cl    *Clusters
+	elec  int  // axis with electrodes (a non-periodic gradient axis), or −1
+	useMG bool // the hierarchy is built
 
 	// set per solve
 	box     Box
-	d       []float64
 	workers int
-	elec    int // axis with electrodes (a non-periodic gradient axis), or −1
 }
 
 // Diffusivity is the package-level Diffusivity on s's buffers.
@@ -140,18 +167,20 @@ func (s *Solver) Diffusivity(box Box, phase []uint8, opt DiffusivityOptions) (Di
 			}
 		}
 	}
-	s.dbuf = grow(s.dbuf, len(phase))
 	for i, p := range phase {
 		if kinetics.Lookup(p) == nil {
 			x, y, z := box.Coords(i)
 			return Diffusion{}, fmt.Errorf("percolation: value %d at voxel (%d, %d, %d) is not a phase id (see kinetics.Phases)", p, x, y, z)
 		}
-		s.dbuf[i] = table[p]
 	}
-	return s.solve(box, s.dbuf, opt)
+	s.setTable(table[:])
+	s.cls = phase
+	return s.solve(box, opt)
 }
 
 // DiffusivityField is the package-level DiffusivityField on s's buffers.
+// It returns an error when d holds more than MaxFieldValues distinct
+// nonzero values.
 func (s *Solver) DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, error) {
 	box.mustFit(len(d), "diffusivity field")
 	for i, v := range d {
@@ -160,7 +189,45 @@ func (s *Solver) DiffusivityField(box Box, d []float64, opt DiffusivityOptions) 
 			return Diffusion{}, fmt.Errorf("percolation: diffusivity %g at voxel (%d, %d, %d) is outside the allowed range: 0 or %g to %g", v, x, y, z, MinDiffusivity, MaxDiffusivity)
 		}
 	}
-	return s.solve(box, d, opt)
+	// Classes in order of first occurrence, class 0 insulating.
+	vals := []float64{0}
+	class := map[float64]uint8{0: 0}
+	s.fcls = grow(s.fcls, len(d))
+	for i, v := range d {
+		c, ok := class[v]
+		if !ok {
+			if len(vals) > MaxFieldValues {
+				return Diffusion{}, fmt.Errorf("percolation: diffusivity field has more than %d distinct nonzero values", MaxFieldValues)
+			}
+			c = uint8(len(vals))
+			class[v] = c
+			vals = append(vals, v)
+		}
+		s.fcls[i] = c
+	}
+	s.setTable(vals)
+	s.cls = s.fcls
+	return s.solve(box, opt)
+}
+
+// sentinel is the class of no voxel, insulating, that stands for the
+// neighbour across an open face.
+const sentinel = 255
+
+// setTable sets the classes' diffusivities and the bond conductance table.
+func (s *Solver) setTable(d []float64) {
+	if s.gt == nil {
+		s.gt = new([1 << 16]float32)
+	}
+	s.dtab = grow(s.dtab, 256)
+	clear(s.dtab)
+	copy(s.dtab, d)
+	for i := range len(d) {
+		for j := range len(d) {
+			s.gt[i<<8|j] = hm(s.dtab[i], s.dtab[j])
+		}
+		s.gt[i<<8|sentinel], s.gt[sentinel<<8|i] = 0, 0
+	}
 }
 
 func validDiffusivity(v float64) bool {
@@ -174,7 +241,16 @@ func grow[T any](b []T, n int) []T {
 	return b[:n]
 }
 
-func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion, error) {
+// hm is the harmonic mean 2ab/(a+b) of two diffusivities, the conductance of
+// two half voxels in series, rounded to single precision; 0 when either is 0.
+func hm(a, b float64) float32 {
+	if a == 0 || b == 0 {
+		return 0
+	}
+	return float32(2 * a * b / (a + b))
+}
+
+func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 	tol, maxIter, workers := opt.Tol, opt.MaxIter, opt.Workers
 	if tol == 0 {
 		tol = DefaultTol
@@ -182,6 +258,7 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	if !(tol > 0 && tol < 1) {
 		return Diffusion{}, fmt.Errorf("percolation: tolerance %g is outside the allowed range (0, 1)", opt.Tol)
 	}
+	tol = max(tol, FloorTol)
 	if maxIter == 0 {
 		maxIter = DefaultMaxIter
 	}
@@ -194,27 +271,33 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	if workers == 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
-	s.box, s.d, s.workers = box, d, min(workers, box.NZ)
+	s.box, s.workers = box, min(workers, box.NZ)
 	n := box.Len()
 
 	// Conducting clusters: voxels with d > 0, joined where both are > 0,
 	// which is where the harmonic-mean conductance is > 0.
 	s.in = grow(s.in, n)
-	for i, v := range d {
-		s.in[i] = v > 0
+	for i, c := range s.cls {
+		s.in[i] = s.dtab[c] > 0
 	}
 	cl := s.lab.Label(box, s.in)
-	s.conductances()
-	s.invd = grow(s.invd, n)
-	s.dg = grow(s.dg, n)
-	s.z = grow(s.z, n)
-	s.r = grow(s.r, n)
-	s.p = grow(s.p, n)
-	s.q = grow(s.q, n)
+	s.ins = grow(s.ins, box.NX)
+	for i := range s.ins {
+		s.ins[i] = sentinel
+	}
 	s.part = grow(s.part, box.NZ)
+	if len(s.rows) < s.workers {
+		s.rows = make([][2][]float64, s.workers)
+	}
+	for k := range s.rows {
+		for j := range 2 {
+			s.rows[k][j] = grow(s.rows[k][j], box.NX)
+		}
+	}
 
 	var res Diffusion
 	var err error
+	built := false
 	for a := range 3 {
 		active := false
 		for _, sp := range cl.Spans {
@@ -222,6 +305,14 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 		}
 		res.Conducts[a] = active
 		if active {
+			if !built {
+				for _, v := range [5]*[]float32{&s.w, &s.r, &s.p, &s.z, &s.invd} {
+					*v = grow(*v, n)
+				}
+				s.agg = growI32(s.agg, n)
+				built = true
+				s.hierOK = false
+			}
 			var e error
 			res.Rel[a], res.Iter[a], res.Residual[a], e = s.axis(a, cl, tol, maxIter)
 			if e != nil && err == nil {
@@ -236,67 +327,17 @@ func (s *Solver) solve(box Box, d []float64, opt DiffusivityOptions) (Diffusion,
 	return res, err
 }
 
-// conductances fills g with the harmonic means of face-neighbour
-// diffusivities; a bond across an open face has conductance 0.
-func (s *Solver) conductances() {
-	box, d := s.box, s.d
-	n := box.Len()
-	nx, ny, nz := box.NX, box.NY, box.NZ
-	for k := range 3 {
-		s.g[k] = grow(s.g[k], n)
-	}
-	gx, gy, gz := s.g[0], s.g[1], s.g[2]
-	plane := nx * ny
-	for z := range nz {
-		zp := z + 1
-		openZ := false
-		if zp == nz {
-			zp, openZ = 0, !box.Periodic[2]
-		}
-		for y := range ny {
-			yp := y + 1
-			openY := false
-			if yp == ny {
-				yp, openY = 0, !box.Periodic[1]
-			}
-			row := nx * (y + ny*z)
-			rowY := nx*yp + plane*z
-			rowZ := nx*y + plane*zp
-			for x := range nx {
-				i := row + x
-				xp := x + 1
-				openX := false
-				if xp == nx {
-					xp, openX = 0, !box.Periodic[0]
-				}
-				gx[i] = hm(d[i], d[row+xp], openX)
-				gy[i] = hm(d[i], d[rowY+x], openY)
-				gz[i] = hm(d[i], d[rowZ+x], openZ)
-			}
-		}
-	}
-}
-
-// hm is the harmonic mean 2ab/(a+b) of two diffusivities, the conductance of
-// two half voxels in series; 0 when either is 0 or the bond is open.
-func hm(a, b float64, open bool) float32 {
-	if open || a == 0 || b == 0 {
-		return 0
-	}
-	return float32(2 * a * b / (a + b))
-}
-
 // The passes of one iteration, run over z planes by parallel.
 const (
 	passSetup = iota
 	passMatvec
 	passUpdate
-	passUpdateMG
 	passDirection
+	passEnergy
+	passJacobi
 	passMGSweep
 	passMGResidual
 	passMGProlong
-	passMGDirection
 )
 
 // parallel runs pass op over contiguous ranges of z planes, one range per
@@ -313,7 +354,7 @@ func (s *Solver) parallelRanges(op int, even bool) {
 	s.op = op
 	nz, w := s.box.NZ, s.workers
 	if w <= 1 {
-		s.pass(0, nz)
+		s.pass(0, 0, nz)
 		return
 	}
 	bound := func(k int) int {
@@ -331,27 +372,31 @@ func (s *Solver) parallelRanges(op int, even bool) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			s.pass(bound(k), bound(k+1))
+			s.pass(k, bound(k), bound(k+1))
 		}()
 	}
-	s.pass(0, bound(1))
+	s.pass(0, 0, bound(1))
 	wg.Wait()
 }
 
-func (s *Solver) pass(z0, z1 int) {
+// pass runs s.op on the planes [z0, z1) as worker k.
+func (s *Solver) pass(k, z0, z1 int) {
+	sum, dg := s.rows[k][0], s.rows[k][1]
 	switch s.op {
 	case passSetup:
-		s.setup(z0, z1)
+		s.setup(z0, z1, sum, dg)
 	case passMatvec:
-		s.matvec(z0, z1)
+		s.matvec(z0, z1, sum, dg)
 	case passUpdate:
 		s.update(z0, z1)
-	case passUpdateMG:
-		s.updateMG(z0, z1)
 	case passDirection:
 		s.direction(z0, z1)
+	case passEnergy:
+		s.energy(z0, z1, sum, dg)
+	case passJacobi:
+		s.jacobi(z0, z1)
 	default:
-		s.mgPass(s.op, z0, z1)
+		s.mgPass(s.op, z0, z1, sum, dg)
 	}
 }
 
@@ -368,40 +413,33 @@ func (s *Solver) sums() (a, b, c float64) {
 
 // axis solves for the fluctuation w with a unit gradient along axis a by
 // preconditioned conjugate gradients (multigrid, or Jacobi on tiny boxes)
-// from w = 0 and returns D/D0,
-// the iterations and the relative residual reached.
+// from w = 0 and returns D/D0, the iterations and the relative residual
+// reached.
 //
 // D/D0 is the dissipation E(w)/V of the potential u = w − x_a (see the
-// package doc). With E(w) = wᵀAw − 2bᵀw + c0 and CG's steps α_k along p_k
-// with ρ_k = r_k·M⁻¹r_k, each step lowers E by exactly α_k ρ_k, so
+// package doc), evaluated from the final iterate as
 //
-//	E(w_k) = c0 − Σ_{j<k} α_j ρ_j,
+//	E(w) = c0 − 2 bᵀw + wᵀAw,
 //
-// an upper bound that falls to the true dissipation as CG converges; the
-// iterate w itself is never stored.
+// c0 being the dissipation at w = 0; it is exact for the stored w (to
+// double-precision sums), whatever the rounding of the single-precision
+// vectors along the way, and exceeds the true dissipation by (w − w*)ᵀA(w − w*),
+// second order in the error of w.
 func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, int, float64, error) {
 	s.elec = -1
 	if !s.box.Periodic[a] {
 		s.elec = a
 	}
 	s.axisA, s.cl = a, cl
+	s.mgBuild()
 	s.parallel(passSetup)
-	rho, bb, c0 := s.sums()
-	s.mvIn, s.mvOut = s.p, s.q
-	s.mg = s.mg[:0]
-	if !s.jacobiOnly {
-		s.mgBuild()
-	}
-	useMG := len(s.mg) > 0
-	if useMG && bb > 0 {
-		rho = s.mgPrecond(false)
-		copy(s.p, s.z)
-	}
-	e := c0
+	_, bb, c0 := s.sums()
 	var iter int
 	var rel float64
 	var err error
 	if bb > 0 {
+		rho := s.precond(false)
+		copy(s.p, s.z)
 		bnorm := math.Sqrt(bb)
 		rel = 1
 		for {
@@ -409,6 +447,7 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 				err = fmt.Errorf("percolation: diffusivity along %s: relative residual %.3g after %d iterations, above the tolerance %g (raise MaxIter)", axisNames[a], rel, iter, tol)
 				break
 			}
+			s.mvIn, s.mvOut = s.p, s.z // z holds q = A p until the preconditioner overwrites it
 			s.parallel(passMatvec)
 			pq, _, _ := s.sums()
 			iter++
@@ -416,35 +455,42 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 				break // p vanishes on the active set: nothing left to solve
 			}
 			s.alpha = rho / pq
-			e -= s.alpha * rho
-			if useMG && s.fine.coloured() {
-				s.parallel(passUpdateMG)
-			} else {
-				s.parallel(passUpdate)
-			}
-			rz, rr, _ := s.sums()
+			s.parallel(passUpdate)
+			_, rr, _ := s.sums()
 			rel = math.Sqrt(rr) / bnorm
 			if rel <= tol {
 				break
 			}
-			if useMG {
-				rz = s.mgPrecond(s.fine.coloured())
-				s.beta = rz / rho
-				rho = rz
-				s.parallel(passMGDirection)
-				continue
-			}
+			rz := s.precond(true)
 			s.beta = rz / rho
 			rho = rz
 			s.parallel(passDirection)
 		}
 	}
-	return max(e, 0) / float64(s.box.Len()), iter, rel, err
+	var e float64
+	if bb > 0 {
+		s.mvIn = s.w
+		s.parallel(passEnergy)
+		e, _, _ = s.sums()
+	}
+	return max(c0+e, 0) / float64(s.box.Len()), iter, rel, err
+}
+
+// precond sets z = M r and returns r·z; started says that the update pass
+// did the first step already (see update).
+func (s *Solver) precond(started bool) float64 {
+	if s.useMG {
+		return s.mgPrecond(started && s.coloured())
+	}
+	if !started {
+		s.parallel(passJacobi)
+	}
+	rz, _, _ := s.sums()
+	return rz
 }
 
 // rowOffsets returns the offsets of the row (y, z) and of the rows at y−1,
-// y+1 (same plane) and z−1, z+1 (same y), wrapping; bonds across open faces
-// have g = 0, so wrapping there is harmless.
+// y+1 (same plane) and z−1, z+1 (same y), wrapping.
 func (s *Solver) rowOffsets(y, z int) (row, ym, yp, zm, zp int) {
 	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
 	plane := nx * ny
@@ -466,6 +512,33 @@ func (s *Solver) rowOffsets(y, z int) (row, ym, yp, zm, zp int) {
 	return row, nx*y0 + plane*z, nx*y1 + plane*z, nx*y + plane*z0, nx*y + plane*z1
 }
 
+// rowClasses returns the classes of row (y, z) and of its −y, +y, −z, +z
+// neighbour rows, the sentinel row standing for a neighbour across an open
+// face, and the offsets of Solver.rowOffsets.
+func (s *Solver) rowClasses(y, z int) (cr, cym, cyp, czm, czp []uint8, row, ym, yp, zm, zp int) {
+	row, ym, yp, zm, zp = s.rowOffsets(y, z)
+	nx := s.box.NX
+	c := s.cls
+	cr, cym, cyp, czm, czp = c[row:row+nx], c[ym:ym+nx], c[yp:yp+nx], c[zm:zm+nx], c[zp:zp+nx]
+	if !s.box.Periodic[1] || s.box.NY == 1 {
+		if y == 0 {
+			cym = s.ins
+		}
+		if y == s.box.NY-1 {
+			cyp = s.ins
+		}
+	}
+	if !s.box.Periodic[2] || s.box.NZ == 1 {
+		if z == 0 {
+			czm = s.ins
+		}
+		if z == s.box.NZ-1 {
+			czp = s.ins
+		}
+	}
+	return
+}
+
 // onFace reports whether row (y, z) holds voxels on the electrode faces
 // of an open gradient axis.
 func (s *Solver) onFace(y, z int) bool {
@@ -480,238 +553,283 @@ func (s *Solver) onFace(y, z int) bool {
 	return false
 }
 
-// electrode returns, for voxel i at c on an electrode face, the
-// conductance 2d of the half voxel to the electrode times the number of
-// electrodes it touches (2 on an axis one voxel long), and its source
+// electrode returns, for the voxel of class c at coordinate ca along the
+// electrode axis, the conductance 2d of the half voxel to each electrode it
+// touches (summed; 2 electrodes on an axis one voxel long) and its source
 // term d·(low − high).
-func (s *Solver) electrode(i int, c [3]int) (g, src float64) {
-	a := s.elec
-	n := s.box.dims()[a]
-	di := s.d[i]
-	if c[a] == 0 {
+func (s *Solver) electrode(c uint8, ca int) (g, src float64) {
+	n := s.box.dims()[s.elec]
+	di := s.dtab[c]
+	if ca == 0 {
 		g += 2 * di
 		src += di
 	}
-	if c[a] == n-1 {
+	if ca == n-1 {
 		g += 2 * di
 		src -= di
 	}
 	return g, src
 }
 
-// setup fills, on the planes [z0, z1), the preconditioner (0 off the active
-// set), the right-hand side r = b and p = M⁻¹r, with part = (r·M⁻¹r, r·r,
-// c0) per plane, c0 being the dissipation at w = 0.
-func (s *Solver) setup(z0, z1 int) {
-	a, cl := s.axisA, s.cl
-	nx, ny := s.box.NX, s.box.NY
-	gx, gy, gz := s.g[0], s.g[1], s.g[2]
-	ga := s.g[a]
-	for z := z0; z < z1; z++ {
-		var rz, rr, c0 float64
-		for y := range ny {
-			row, ym, _, zm, _ := s.rowOffsets(y, z)
-			back := [3]int{0, ym, zm} // rows of the −a neighbours for a = 1, 2
-			face := s.onFace(y, z)
-			for x := range nx {
-				i := row + x
-				xm := x - 1
-				if x == 0 {
-					xm = nx - 1
-				}
-				c := cl.Label[i]
-				if c < 0 || !cl.Spans[c][a] {
-					s.invd[i], s.dg[i], s.r[i], s.p[i] = 0, 0, 0, 0
-					continue
-				}
-				diag := float64(gx[i]) + float64(gx[row+xm]) + float64(gy[i]) + float64(gy[ym+x]) + float64(gz[i]) + float64(gz[zm+x])
-				gm := float64(gx[row+xm])
-				if a > 0 {
-					gm = float64(ga[back[a]+x])
-				}
-				b := gm - float64(ga[i])
-				c0 += float64(ga[i])
-				if face {
-					ge, src := s.electrode(i, [3]int{x, y, z})
-					diag += ge
-					b += src
-					c0 += ge / 4 // each link 2d·(1/2)²
-				}
-				var m float32
-				if diag > 0 {
-					m = float32(1 / diag)
-				}
-				s.invd[i] = m
-				s.dg[i] = diag
-				s.r[i] = b
-				s.p[i] = float64(m) * b
-				rz += float64(m) * b * b
-				rr += b * b
+// gather sets, for the voxels x = x0, x0+step, … (x < NX) of row (y, z),
+// dg[x] = Σ_j g_xj, the diagonal of A (electrode links included), and,
+// when v is not nil, sum[x] = Σ_j g_xj v_j, over the six face neighbours j,
+// summed in pairs ((+x, −x) + (+y, −y)) + (+z, −z). Bonds across open faces, and from a
+// voxel to itself, have conductance 0.
+func (s *Solver) gather(v []float32, y, z, x0, step int, sum, dg []float64) {
+	nx := s.box.NX
+	g := s.gt
+	cr, cym, cyp, czm, czp, row, ym, yp, zm, zp := s.rowClasses(y, z)
+	cr, cym, cyp, czm, czp = cr[:nx], cym[:nx], cyp[:nx], czm[:nx], czp[:nx]
+	dg = dg[:nx]
+	if v != nil {
+		sum = sum[:nx]
+	}
+	// The ends of the row, whose ±x neighbours wrap or are cut.
+	lo, hi := x0, nx
+	first, last := x0 == 0, x0 < nx && (nx-1-x0)%step == 0
+	if first {
+		lo += step
+	}
+	if last {
+		hi = nx - 1
+	}
+	var vr, vym, vyp, vzm, vzp []float32
+	if v != nil {
+		vr, vym, vyp, vzm, vzp = v[row:row+nx], v[ym : ym+nx][:nx], v[yp : yp+nx][:nx], v[zm : zm+nx][:nx], v[zp : zp+nx][:nx]
+		for i := lo; i < hi; i += step {
+			ci := int(cr[i]) << 8
+			gxp, gxm := float64(g[uint16(ci|int(cr[i+1]))]), float64(g[uint16(ci|int(cr[i-1]))])
+			gyp, gym := float64(g[uint16(ci|int(cyp[i]))]), float64(g[uint16(ci|int(cym[i]))])
+			gzp, gzm := float64(g[uint16(ci|int(czp[i]))]), float64(g[uint16(ci|int(czm[i]))])
+			dg[i] = (gxp + gxm) + (gyp + gym) + (gzp + gzm)
+			sum[i] = (gxp*float64(vr[i+1]) + gxm*float64(vr[i-1])) +
+				(gyp*float64(vyp[i]) + gym*float64(vym[i])) +
+				(gzp*float64(vzp[i]) + gzm*float64(vzm[i]))
+		}
+	} else {
+		for i := lo; i < hi; i += step {
+			ci := int(cr[i]) << 8
+			dg[i] = (float64(g[uint16(ci|int(cr[i+1]))]) + float64(g[uint16(ci|int(cr[i-1]))])) +
+				(float64(g[uint16(ci|int(cyp[i]))]) + float64(g[uint16(ci|int(cym[i]))])) +
+				(float64(g[uint16(ci|int(czp[i]))]) + float64(g[uint16(ci|int(czm[i]))]))
+		}
+	}
+	openX := !s.box.Periodic[0] || nx == 1
+	for e := range 2 {
+		i := e * (nx - 1)
+		if (e == 0 && !first) || (e == 1 && (!last || nx == 1)) {
+			continue
+		}
+		ip, im := (i+1)%nx, (i+nx-1)%nx
+		cxp, cxm := cr[ip], cr[im]
+		if openX {
+			if i == nx-1 {
+				cxp = sentinel
+			}
+			if i == 0 {
+				cxm = sentinel
 			}
 		}
-		s.part[z] = [3]float64{rz, rr, c0}
+		ci := int(cr[i]) << 8
+		gxp, gxm := float64(g[uint16(ci|int(cxp))]), float64(g[uint16(ci|int(cxm))])
+		gyp, gym := float64(g[uint16(ci|int(cyp[i]))]), float64(g[uint16(ci|int(cym[i]))])
+		gzp, gzm := float64(g[uint16(ci|int(czp[i]))]), float64(g[uint16(ci|int(czm[i]))])
+		dg[i] = (gxp + gxm) + (gyp + gym) + (gzp + gzm)
+		if v != nil {
+			sum[i] = (gxp*float64(vr[ip]) + gxm*float64(vr[im])) +
+				(gyp*float64(vyp[i]) + gym*float64(vym[i])) +
+				(gzp*float64(vzp[i]) + gzm*float64(vzm[i]))
+		}
 	}
+	if s.onFace(y, z) {
+		for i := x0; i < nx; i += step {
+			if s.elec == 0 && i != 0 && i != nx-1 {
+				continue
+			}
+			ge, _ := s.electrode(cr[i], [3]int{i, y, z}[s.elec])
+			dg[i] += ge
+		}
+	}
+}
+
+// setup fills, on the planes [z0, z1), the right-hand side r = b and the
+// inverse diagonal on the active set (0 elsewhere), w = 0, with part = (0, b·b, c0) per plane, c0
+// being the dissipation at w = 0.
+func (s *Solver) setup(z0, z1 int, _, dg []float64) {
+	nx, ny := s.box.NX, s.box.NY
+	for z := z0; z < z1; z++ {
+		var rr, c0 float64
+		for y := range ny {
+			row := nx * (y + ny*z)
+			clear(s.w[row : row+nx])
+			s.gather(nil, y, z, 0, 1, nil, dg)
+			for x := range nx {
+				gp, b, ok := s.source(x, y, z)
+				if !ok {
+					s.r[row+x], s.invd[row+x] = 0, 0
+					continue
+				}
+				s.invd[row+x] = 0
+				if dg[x] > 0 { // 0 for a voxel bonded only to its own image
+					s.invd[row+x] = float32(1 / dg[x])
+				}
+				c0 += gp
+				if s.onFace(y, z) {
+					ge, _ := s.electrode(s.cls[row+x], [3]int{x, y, z}[s.elec])
+					c0 += ge / 4 // each link 2d·(1/2)²
+				}
+				rb := float32(b)
+				s.r[row+x] = rb
+				rr += float64(rb) * float64(rb)
+			}
+		}
+		s.part[z] = [3]float64{0, rr, c0}
+	}
+}
+
+// source returns, for voxel (x, y, z) of the active set, the conductance gp
+// of its bond to the +a neighbour and its right-hand side
+//
+//	b = g(−a) − g(+a)   (plus the electrode source),
+//
+// a being the gradient axis; ok is false off the active set.
+func (s *Solver) source(x, y, z int) (gp, b float64, ok bool) {
+	i := s.box.Index(x, y, z)
+	c := s.cl.Label[i]
+	if c < 0 || !s.cl.Spans[c][s.axisA] {
+		return 0, 0, false
+	}
+	a, dims := s.axisA, s.box.dims()
+	co := [3]int{x, y, z}
+	nb := func(step int) float64 {
+		q := co
+		q[a] += step
+		if q[a] < 0 || q[a] >= dims[a] {
+			if !s.box.Periodic[a] {
+				return 0
+			}
+			q[a] = (q[a] + dims[a]) % dims[a]
+		}
+		return float64(s.gt[int(s.cls[i])<<8|int(s.cls[s.box.Index(q[0], q[1], q[2])])])
+	}
+	gp = nb(1)
+	b = nb(-1) - gp
+	if s.onFace(y, z) {
+		_, src := s.electrode(s.cls[i], co[s.elec])
+		b += src
+	}
+	return gp, b, true
 }
 
 // matvec computes q = A p on the planes [z0, z1), with part = (p·q, 0, 0):
 //
-//	(A p)_i = Σ_j g_ij (p_i − p_j)
-//
-// over the six bonds, plus the electrode conductance times p_i on the
-// faces of an open gradient axis. It walks the bonds to the +x, +y, +z
-// neighbours once each, adding the flux to one end and taking it from the
-// other. The bonds from plane z0−1 to z0 belong to the previous range: they
-// are computed again here, for plane z0 only, so that no two goroutines
-// write one plane, and every q_i receives its terms in the same order
-// whatever the ranges.
-func (s *Solver) matvec(z0, z1 int) {
-	nx, ny, nz := s.box.NX, s.box.NY, s.box.NZ
-	plane := nx * ny
-	gx, gy, gz := s.g[0], s.g[1], s.g[2]
+//	(A p)_i = A_ii p_i − Σ_j g_ij p_j.
+func (s *Solver) matvec(z0, z1 int, sum, dg []float64) {
+	nx, ny := s.box.NX, s.box.NY
 	p, q := s.mvIn, s.mvOut
-	{
-		// Plane z0: clear it and take the bonds from plane z0−1.
-		zm := z0 - 1
-		if zm < 0 {
-			zm = nz - 1
-		}
-		lo := z0 * plane
-		qz, pz := q[lo:lo+plane], p[lo:lo+plane]
-		pm, gm := p[zm*plane:][:len(pz)], gz[zm*plane:][:len(pz)]
-		qz = qz[:len(pz)]
-		for i, pi := range pz {
-			qz[i] = float64(gm[i]) * (pi - pm[i])
-		}
-	}
 	for z := z0; z < z1; z++ {
-		lo := z * plane
-		zp := z + 1
-		last := zp == z1
-		if zp == nz {
-			zp = 0
-		}
-		if !last {
-			clear(q[zp*plane : zp*plane+plane])
-		}
-		for y := range ny {
-			row := lo + nx*y
-			yp := y + 1
-			if yp == ny {
-				yp = 0
-			}
-			rowY := lo + nx*yp
-			rowZ := zp*plane + nx*y
-			pr := p[row : row+nx]
-			n := len(pr)
-			qr := q[row : row+nx][:n]
-			gxr, gyr, gzr := gx[row : row+nx][:n], gy[row : row+nx][:n], gz[row : row+nx][:n]
-			py, qy := p[rowY : rowY+nx][:n], q[rowY : rowY+nx][:n]
-			pz, qz := p[rowZ : rowZ+nx][:n], q[rowZ : rowZ+nx][:n]
-			var carry float64 // flux from the −x bond into the voxel
-			for x := 0; x < n-1; x++ {
-				pi := pr[x]
-				fx := float64(gxr[x]) * (pi - pr[x+1])
-				fy := float64(gyr[x]) * (pi - py[x])
-				fz := float64(gzr[x]) * (pi - pz[x])
-				qr[x] += carry + fx + fy + fz
-				carry = -fx
-				qy[x] -= fy
-				if !last {
-					qz[x] -= fz
-				}
-			}
-			{
-				x := n - 1
-				pi := pr[x]
-				fx := float64(gxr[x]) * (pi - pr[0])
-				fy := float64(gyr[x]) * (pi - py[x])
-				fz := float64(gzr[x]) * (pi - pz[x])
-				if n == 1 {
-					carry = -fx
-				}
-				qr[x] += carry + fx + fy + fz
-				qr[0] -= fx
-				qy[x] -= fy
-				if !last {
-					qz[x] -= fz
-				}
-			}
-			if s.onFace(y, z) {
-				for x, pi := range pr {
-					if pi != 0 {
-						ge, _ := s.electrode(row+x, [3]int{x, y, z})
-						qr[x] += ge * pi
-					}
-				}
-			}
-		}
 		var pq float64
-		pz, qz := p[lo:lo+plane], q[lo:lo+plane]
-		qz = qz[:len(pz)]
-		for i, pi := range pz {
-			pq += pi * qz[i]
+		for y := range ny {
+			s.gather(p, y, z, 0, 1, sum, dg)
+			row := nx * (y + ny*z)
+			pr, qr := p[row:row+nx], q[row:row+nx]
+			for i, pi := range pr {
+				v := dg[i]*float64(pi) - sum[i]
+				qr[i] = float32(v)
+				pq += float64(pi) * v
+			}
 		}
 		s.part[z] = [3]float64{pq, 0, 0}
 	}
 }
 
-// update does r −= αq on the planes [z0, z1), with part = (r·M⁻¹r, r·r, 0).
-func (s *Solver) update(z0, z1 int) {
-	plane := s.box.NX * s.box.NY
-	alpha := s.alpha
+// energy sets part = (Σ w_i ((A w)_i − 2 b_i), 0, 0) per plane, with w in
+// mvIn.
+func (s *Solver) energy(z0, z1 int, sum, dg []float64) {
+	nx, ny := s.box.NX, s.box.NY
+	w := s.mvIn
 	for z := z0; z < z1; z++ {
-		lo, hi := z*plane, (z+1)*plane
-		r, q, m := s.r[lo:hi], s.q[lo:hi], s.invd[lo:hi]
-		q, m = q[:len(r)], m[:len(r)]
-		var rz, rr float64
-		for i, ri := range r {
-			ri -= alpha * q[i]
-			r[i] = ri
-			rr += ri * ri
-			rz += float64(m[i]) * ri * ri
+		var e float64
+		for y := range ny {
+			s.gather(w, y, z, 0, 1, sum, dg)
+			row := nx * (y + ny*z)
+			for x := range nx {
+				wi := float64(w[row+x])
+				if wi == 0 {
+					continue
+				}
+				_, b, ok := s.source(x, y, z)
+				if !ok {
+					continue
+				}
+				e += wi * (dg[x]*wi - sum[x] - 2*b)
+			}
+		}
+		s.part[z] = [3]float64{e, 0, 0}
+	}
+}
+
+// update does w += αp and r −= αq (q in z) on the planes [z0, z1), with
+// part = (r·M⁻¹r, r·r, 0) for the Jacobi preconditioner M (z = M⁻¹r), or,
+// with the multigrid on a properly coloured level, part = (Σ_red r z, r·r, 0)
+// and the first multigrid half sweep done: z = D⁻¹r on red, 0 on black.
+func (s *Solver) update(z0, z1 int) {
+	nx, ny := s.box.NX, s.box.NY
+	alpha := s.alpha
+	red := s.useMG && s.coloured()
+	for z := z0; z < z1; z++ {
+		var rr, rz float64
+		for y := range ny {
+			lo := nx * (y + ny*z)
+			r := s.r[lo : lo+nx]
+			n := len(r)
+			q, w, p, m := s.z[lo : lo+nx][:n], s.w[lo : lo+nx][:n], s.p[lo : lo+nx][:n], s.invd[lo : lo+nx][:n]
+			c := (y + z) & 1 // x parity of the red voxels
+			for i, ri := range r {
+				w[i] = float32(float64(w[i]) + alpha*float64(p[i]))
+				v := float32(float64(ri) - alpha*float64(q[i]))
+				r[i] = v
+				rr += float64(v) * float64(v)
+				zi := float32(float64(v) * float64(m[i]))
+				if red && i&1 != c {
+					zi = 0
+				}
+				q[i] = zi
+				rz += float64(v) * float64(zi)
+			}
 		}
 		s.part[z] = [3]float64{rz, rr, 0}
 	}
 }
 
-// updateMG does r −= αq on the planes [z0, z1), with part = (0, r·r, 0),
-// and starts the multigrid pre-smoothing: z = D⁻¹r on red, 0 on black
-// (the first half sweep from z = 0).
-func (s *Solver) updateMG(z0, z1 int) {
-	nx, ny := s.box.NX, s.box.NY
-	alpha := s.alpha
-	for z := z0; z < z1; z++ {
-		var rr float64
-		for y := range ny {
-			lo := nx * (y + ny*z)
-			r := s.r[lo : lo+nx]
-			q, d, x := s.q[lo : lo+nx][:len(r)], s.dg[lo : lo+nx][:len(r)], s.z[lo : lo+nx][:len(r)]
-			red := (y + z) & 1
-			for i, ri := range r {
-				ri -= alpha * q[i]
-				r[i] = ri
-				rr += ri * ri
-				var v float64
-				if i&1 == red && d[i] != 0 {
-					v = ri / d[i]
-				}
-				x[i] = v
-			}
-		}
-		s.part[z] = [3]float64{0, rr, 0}
-	}
-}
-
-// direction does p = M⁻¹r + βp on the planes [z0, z1).
+// direction does p = z + βp on the planes [z0, z1).
 func (s *Solver) direction(z0, z1 int) {
 	plane := s.box.NX * s.box.NY
 	beta := s.beta
 	for z := z0; z < z1; z++ {
 		lo, hi := z*plane, (z+1)*plane
-		r, p, m := s.r[lo:hi], s.p[lo:hi], s.invd[lo:hi]
-		r, m = r[:len(p)], m[:len(p)]
+		p := s.p[lo:hi]
+		zz := s.z[lo:hi][:len(p)]
 		for i, pi := range p {
-			p[i] = float64(m[i])*r[i] + beta*pi
+			p[i] = float32(float64(zz[i]) + beta*float64(pi))
 		}
+	}
+}
+
+// jacobi sets z = D⁻¹r on the planes [z0, z1), with part = (r·z, 0, 0).
+func (s *Solver) jacobi(z0, z1 int) {
+	plane := s.box.NX * s.box.NY
+	for z := z0; z < z1; z++ {
+		lo, hi := z*plane, (z+1)*plane
+		r := s.r[lo:hi]
+		zz, m := s.z[lo:hi][:len(r)], s.invd[lo:hi][:len(r)]
+		var rz float64
+		for i, ri := range r {
+			v := float32(float64(ri) * float64(m[i]))
+			zz[i] = v
+			rz += float64(ri) * float64(v)
+		}
+		s.part[z] = [3]float64{rz, 0, 0}
 	}
 }

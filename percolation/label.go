@@ -67,7 +67,8 @@ type Labeler struct {
 	parent []int32    // provisional label → parent label (parent ≤ label)
 	off    [][3]int32 // winding of a label's cell relative to its parent's
 	wrap   []uint8    // per provisional root: bit a set when it wraps along axis a
-	final  []int32    // provisional root → cluster id
+	final  []int32    // provisional label v → cluster id at v+1; −1 at 0
+	count  []int32    // voxels per cluster c at c+1
 	touch  []uint16   // per cluster: bits 2a, 2a+1 for the low and high face of axis a, bit 6+a wrap
 	in     []bool     // scratch set for Pores and Solids
 	cl     Clusters
@@ -141,6 +142,10 @@ func (l *Labeler) scan(box Box, in []bool, bond func(a, b int) bool) {
 	}
 	lab := l.cl.Label[:n]
 	l.cl.Label = lab
+	if bond == nil {
+		l.scanAll(box, in)
+		return
+	}
 	parent := l.parent[:0]
 	plane := nx * ny
 	for z := range nz {
@@ -173,6 +178,68 @@ func (l *Labeler) scan(box Box, in []bool, bond func(a, b int) bool) {
 					parent = append(parent, r)
 				}
 				labs[x] = r
+			}
+		}
+	}
+	l.parent = parent
+}
+
+// scanAll is scan with every pair bonded. The label carried along the row
+// from the −x neighbour is always a root: it only changes when this voxel
+// merges trees, and then it becomes the merged root. The labels it assigns
+// are those of scan (same merges, same new labels).
+func (l *Labeler) scanAll(box Box, in []bool) {
+	nx, ny, nz := box.NX, box.NY, box.NZ
+	lab := l.cl.Label
+	parent := l.parent[:0]
+	plane := nx * ny
+	for z := range nz {
+		for y := range ny {
+			row := nx * (y + ny*z)
+			ins := in[row : row+nx]
+			labs := lab[row : row+nx][:len(ins)]
+			var labY, labZ []int32 // −1 outside the set
+			if y > 0 {
+				labY = lab[row-nx : row][:len(ins)]
+			}
+			if z > 0 {
+				labZ = lab[row-plane : row-plane+nx][:len(ins)]
+			}
+			// A neighbour joined to an earlier neighbour through the corner
+			// voxel they share is in the same tree already: its find and
+			// merge are skipped. Left (x−1) and up (y−1) share (x−1, y−1);
+			// left and back (z−1) share (x−1, z−1); up and back share
+			// (y−1, z−1).
+			var labYZ []int32
+			if y > 0 && z > 0 {
+				labYZ = lab[row-plane-nx : row-plane][:len(ins)]
+			}
+			prev := int32(-1)
+			for x, ok := range ins {
+				if !ok {
+					labs[x] = -1
+					prev = -1
+					continue
+				}
+				r := prev
+				up := false
+				if labY != nil && labY[x] >= 0 {
+					up = true
+					if !(r >= 0 && labY[x-1] >= 0) {
+						r = merge(parent, r, find(parent, labY[x]))
+					}
+				}
+				if labZ != nil && labZ[x] >= 0 {
+					if !(prev >= 0 && labZ[x-1] >= 0) && !(up && labYZ[x] >= 0) {
+						r = merge(parent, r, find(parent, labZ[x]))
+					}
+				}
+				if r < 0 {
+					r = int32(len(parent))
+					parent = append(parent, r)
+				}
+				labs[x] = r
+				prev = r
 			}
 		}
 	}
@@ -267,76 +334,90 @@ func (l *Labeler) joinPeriodic(box Box, in []bool, bond func(a, b int) bool) {
 
 // relabel turns provisional labels into cluster ids in order of first
 // voxel and collects sizes, face contacts and spans.
+//
+// The first voxel of a cluster in raster order has no earlier neighbour in
+// the cluster, so it opens a new provisional label, smaller than every
+// other label of the cluster; and every union keeps the smaller root. The
+// root of each tree is thus the label of its cluster's first voxel, and
+// numbering the roots in label order numbers the clusters in order of
+// their first voxel. The voxel pass is then one lookup per voxel, without
+// branches: final[v+1] is the cluster of label v, and final[0] = −1 for the
+// voxels outside the set.
 func (l *Labeler) relabel(box Box) {
 	parent := l.parent
 	nl := len(parent)
-	// Parents are never larger than their children, so one forward sweep
-	// points every label at its root.
-	for i := range parent {
-		parent[i] = parent[parent[i]]
+	if cap(l.final) < nl+1 {
+		l.final = make([]int32, nl+1)
 	}
-	if cap(l.final) < nl {
-		l.final = make([]int32, nl)
-	}
-	final := l.final[:nl]
-	for i := range final {
-		final[i] = -1
-	}
+	final := l.final[:nl+1]
+	final[0] = -1
 	periodic := box.Periodic[0] || box.Periodic[1] || box.Periodic[2]
-	sizes := l.cl.Size[:0]
 	touch := l.touch[:0]
-	var wraps []uint8
-	if periodic {
-		wraps = l.wrap
+	// Parents are never larger than their children, so in label order
+	// every root comes before the labels of its tree.
+	nc := int32(0)
+	for i, p := range parent {
+		if int(p) == i {
+			final[i+1] = nc
+			nc++
+			var w uint16
+			if periodic {
+				w = uint16(l.wrap[i]) << 6
+			}
+			touch = append(touch, w)
+			continue
+		}
+		r := parent[p] // p's parent is already its root
+		parent[i] = r
+		final[i+1] = final[r+1]
 	}
+	if cap(l.count) < int(nc)+1 {
+		l.count = make([]int32, nc+1)
+	}
+	count := l.count[:nc+1]
+	clear(count)
 	nx, ny, nz := box.NX, box.NY, box.NZ
 	lab := l.cl.Label
 	for z := range nz {
-		var tz uint16
-		if z == 0 {
-			tz |= 1 << 4
-		}
-		if z == nz-1 {
-			tz |= 1 << 5
-		}
 		for y := range ny {
-			t := tz
+			row := nx * (y + ny*z)
+			labs := lab[row : row+nx]
+			for x, v := range labs {
+				c := final[v+1]
+				labs[x] = c
+				count[c+1]++
+			}
+			var t uint16 // faces of the row
 			if y == 0 {
 				t |= 1 << 2
 			}
 			if y == ny-1 {
 				t |= 1 << 3
 			}
-			row := nx * (y + ny*z)
-			labs := lab[row : row+nx]
-			for x, v := range labs {
-				if v < 0 {
-					continue
-				}
-				r := parent[v]
-				c := final[r]
-				if c < 0 {
-					c = int32(len(sizes))
-					final[r] = c
-					sizes = append(sizes, 0)
-					var w uint16
-					if periodic {
-						w = uint16(wraps[r]) << 6
+			if z == 0 {
+				t |= 1 << 4
+			}
+			if z == nz-1 {
+				t |= 1 << 5
+			}
+			if t != 0 {
+				for _, c := range labs {
+					if c >= 0 {
+						touch[c] |= t
 					}
-					touch = append(touch, w)
 				}
-				labs[x] = c
-				sizes[c]++
-				tt := t
-				if x == 0 {
-					tt |= 1
-				}
-				if x == nx-1 {
-					tt |= 2
-				}
-				touch[c] |= tt
+			}
+			if c := labs[0]; c >= 0 {
+				touch[c] |= 1
+			}
+			if c := labs[nx-1]; c >= 0 {
+				touch[c] |= 2
 			}
 		}
+	}
+	sizes := l.cl.Size[:0]
+	for _, n := range count[1:] {
+		sizes = append(sizes, int(n))
 	}
 	spans := l.cl.Spans[:0]
 	for _, t := range touch {

@@ -20,34 +20,27 @@ package percolation
 //
 // The fine level smooths with red–black Gauss–Seidel, the colour of a voxel
 // being the parity of x + y + z: before the coarse correction it updates
-// the red voxels (from z = 0) and then the black ones, after it the black
-// and then the red ones, so that the sequence of half sweeps is a
-// palindrome. After the black half sweep the residual vanishes on black, so
-// only the red residual is formed and restricted, and only red voxels take
-// the prolongated correction (the black ones are overwritten next). These
-// passes walk compacted lists of the active voxels of each colour
-// (colour.go) rather than the full rows. On an
-// odd periodic edge two voxels of one colour meet across the face; the half
-// sweeps then run on one worker over the whole level, in raster order
-// before the coarse correction and in reverse raster order (the adjoint)
-// after it, and every residual is formed. The coarse levels smooth with
-// mgSweeps forward Gauss–Seidel sweeps before and as many backward sweeps
-// after the correction below, and the coarsest level (at most
-// mgCoarsestLen aggregates, or no further grouping possible) with
-// mgCoarseSweeps symmetric sweeps from 0. Every smoothing step divides by
-// the double-precision diagonal, so the cycle is a symmetric positive
-// definite operator to rounding, as conjugate gradients need
-// (TestMGSymmetric). Boxes of at most mgCoarsestLen voxels use the Jacobi
-// diagonal alone.
-
-// mgLevel is the fine level: the voxel network seen through the solver's
-// arrays.
-type mgLevel struct {
-	nx, ny, nz int
-	g          [3][]float32 // bond i → i+k, wrapped; 0 across open faces and off the active set
-	diag       []float64    // diagonal of A, electrode links included
-	invd       []float32    // 1/diag, 0 where diag is 0 (off the active set)
-}
+// the red voxels (from z = 0; this first half sweep is folded into the
+// residual update of conjugate gradients) and then the black ones, after
+// it the black and then the red ones, so that the sequence of half sweeps
+// is a palindrome. After the black half sweep the residual vanishes on
+// black, so only the red residual is formed and restricted, and only red
+// voxels take the prolongated correction (the black ones are overwritten
+// next). The fine passes walk the rows of the full box with stride 2 and
+// look each bond's conductance up from the classes of its voxels (see
+// Solver.gather). On an odd periodic edge two voxels of one colour meet
+// across the face; the half sweeps then run on one worker over the whole
+// level, in raster order before the coarse correction and in reverse
+// raster order (the adjoint) after it, and every residual is formed. The
+// coarse levels smooth with mgSweeps forward Gauss–Seidel sweeps before
+// and as many backward sweeps after the correction below, and the coarsest
+// level (at most mgCoarsestLen aggregates, or no further grouping
+// possible) with mgCoarseSweeps symmetric sweeps from 0. Every fine
+// smoothing step multiplies by the same single-precision inverse diagonal
+// and every coarse one by the same double-precision one, so the cycle is a
+// symmetric positive definite operator to the rounding of the
+// single-precision vectors, as conjugate gradients need (TestMGSymmetric).
+// Boxes of at most mgCoarsestLen voxels use the Jacobi diagonal alone.
 
 // Multigrid parameters: red–black Gauss–Seidel pairs before and after the
 // coarse correction on the fine level (more than one pair cost more time
@@ -60,140 +53,6 @@ const (
 	mgCoarseSweeps = 8
 	mgCoarsestLen  = 512
 )
-
-func (lv *mgLevel) len() int { return lv.nx * lv.ny * lv.nz }
-
-// coloured reports whether the parity of x + y + z is a proper two-colouring
-// of the level's bonds, which fails across an odd periodic edge.
-func (lv *mgLevel) coloured() bool {
-	return (lv.nx == 1 || lv.nx%2 == 0) && (lv.ny == 1 || lv.ny%2 == 0) && (lv.nz == 1 || lv.nz%2 == 0)
-}
-
-// offsets returns the offsets of the row (y, z) and of the rows at y−1,
-// y+1 and z−1, z+1, wrapping.
-func (lv *mgLevel) offsets(y, z int) (row, ym, yp, zm, zp int) {
-	nx, ny, nz := lv.nx, lv.ny, lv.nz
-	plane := nx * ny
-	y0, y1, z0, z1 := y-1, y+1, z-1, z+1
-	if y0 < 0 {
-		y0 = ny - 1
-	}
-	if y1 == ny {
-		y1 = 0
-	}
-	if z0 < 0 {
-		z0 = nz - 1
-	}
-	if z1 == nz {
-		z1 = 0
-	}
-	row = nx * (y + ny*z)
-	return row, nx*y0 + plane*z, nx*y1 + plane*z, nx*y + plane*z0, nx*y + plane*z1
-}
-
-// sweep does a half sweep of Gauss–Seidel on A x = f over the voxels of
-// colour c in the planes [z0, z1),
-//
-//	x_i = (f_i + Σ_j g_ij x_j) / A_ii
-//
-// (a division by the double-precision diagonal, so that the half sweep is
-// exactly Gauss–Seidel and the cycle symmetric to rounding), or, when
-// first, sets x = D⁻¹f on colour c and x = 0 on the other colour
-// (the half sweep from x = 0). It returns, per plane in part when part is
-// not nil, Σ f_i x_i over the voxels updated.
-func (lv *mgLevel) sweep(x, f []float64, c int, first bool, z0, z1 int, part [][3]float64) {
-	nx := lv.nx
-	gx, gy, gz := lv.g[0], lv.g[1], lv.g[2]
-	for z := z0; z < z1; z++ {
-		var fx float64
-		for y := range lv.ny {
-			row, ym, yp, zm, zp := lv.offsets(y, z)
-			x0 := (c + y + z) & 1
-			xr := x[row : row+nx]
-			n := len(xr)
-			fr, mr := f[row : row+nx][:n], lv.diag[row : row+nx][:n]
-			if first {
-				for i := range xr {
-					xr[i] = 0
-				}
-				for i := x0; i < n; i += 2 {
-					if mr[i] == 0 {
-						continue
-					}
-					v := fr[i] / mr[i]
-					xr[i] = v
-					fx += fr[i] * v
-				}
-				continue
-			}
-			xym, xyp := x[ym : ym+nx][:n], x[yp : yp+nx][:n]
-			xzm, xzp := x[zm : zm+nx][:n], x[zp : zp+nx][:n]
-			gxr := gx[row : row+nx][:n]
-			gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
-			gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
-			for i := x0; i < n; i += 2 {
-				m := mr[i]
-				if m == 0 {
-					continue
-				}
-				ip, im := i+1, i-1
-				if i == 0 || i == n-1 {
-					ip, im = (i+1)%n, (i+n-1)%n
-				}
-				v := fr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
-					float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
-					float64(gzr[i])*xzp[i] + float64(gzm[i])*xzm[i]
-				v /= m
-				xr[i] = v
-				fx += fr[i] * v
-			}
-		}
-		if part != nil {
-			part[z][0] += fx
-		}
-	}
-}
-
-// restrictResidual adds the residual f − A x of each active voxel of the
-// planes [z0, z1) to the right-hand side cf of its aggregate agg (Pᵀ of
-// the residual), visiting only the voxels of colour c when c ≥ 0 (the
-// residual vanishes on the other colour). The voxels of one aggregate lie
-// in one 2×2×2 block, so ranges of planes that start at even planes write
-// disjoint entries of cf, each in the same order whatever the ranges.
-func (lv *mgLevel) restrictResidual(x, f []float64, agg []int32, cf []float64, c, z0, z1 int) {
-	nx := lv.nx
-	gx, gy, gz := lv.g[0], lv.g[1], lv.g[2]
-	for z := z0; z < z1; z++ {
-		for y := range lv.ny {
-			row, ym, yp, zm, zp := lv.offsets(y, z)
-			xr := x[row : row+nx]
-			n := len(xr)
-			fr, dr, ar := f[row : row+nx][:n], lv.diag[row : row+nx][:n], agg[row : row+nx][:n]
-			xym, xyp := x[ym : ym+nx][:n], x[yp : yp+nx][:n]
-			xzm, xzp := x[zm : zm+nx][:n], x[zp : zp+nx][:n]
-			gxr := gx[row : row+nx][:n]
-			gyr, gym := gy[row : row+nx][:n], gy[ym : ym+nx][:n]
-			gzr, gzm := gz[row : row+nx][:n], gz[zm : zm+nx][:n]
-			x0, step := 0, 1
-			if c >= 0 {
-				x0, step = (c+y+z)&1, 2
-			}
-			for i := x0; i < n; i += step {
-				I := ar[i]
-				if I < 0 {
-					continue
-				}
-				ip, im := i+1, i-1
-				if i == 0 || i == n-1 {
-					ip, im = (i+1)%n, (i+n-1)%n
-				}
-				cf[I] += fr[i] - dr[i]*xr[i] + float64(gxr[i])*xr[ip] + float64(gxr[im])*xr[im] +
-					float64(gyr[i])*xyp[i] + float64(gym[i])*xym[i] +
-					float64(gzr[i])*xzp[i] + float64(gzm[i])*xzm[i]
-			}
-		}
-	}
-}
 
 // gLevel is a coarse level: a conductance network on the aggregates of the
 // level below, stored as compressed rows of its off-diagonal conductances.
@@ -262,63 +121,6 @@ func (u uf) union(a, b int32) {
 }
 
 func growI32(b []int32, n int) []int32 { return grow(b, n) }
-
-// fineAggregates groups the active voxels of the fine level into the
-// connected components (by bonds with g > 0) of each 2×2×2 block, numbered
-// in the order of their first voxel, and sets up level c's block grid.
-// It returns the number of aggregates.
-func (s *Solver) fineAggregates(c *gLevel) int {
-	f := &s.fine
-	nx, ny, nz := f.nx, f.ny, f.nz
-	n := f.len()
-	s.agg = growI32(s.agg, n)
-	s.uf = growI32(s.uf, n)
-	u := uf(s.uf)
-	for i := range u {
-		u[i] = int32(i)
-	}
-	plane := nx * ny
-	for z := range nz {
-		for y := range ny {
-			for x := range nx {
-				i := x + nx*(y+ny*z)
-				if f.invd[i] == 0 {
-					continue
-				}
-				if x+1 < nx && x&1 == 0 && f.g[0][i] > 0 {
-					u.union(int32(i), int32(i+1))
-				}
-				if y+1 < ny && y&1 == 0 && f.g[1][i] > 0 {
-					u.union(int32(i), int32(i+nx))
-				}
-				if z+1 < nz && z&1 == 0 && f.g[2][i] > 0 {
-					u.union(int32(i), int32(i+plane))
-				}
-			}
-		}
-	}
-	// The roots are the smallest voxel of each component; number them in
-	// voxel order.
-	c.dims = [3]int{(nx + 1) / 2, (ny + 1) / 2, (nz + 1) / 2}
-	c.blk = c.blk[:0]
-	na := 0
-	for i := range n {
-		if f.invd[i] == 0 {
-			s.agg[i] = -1
-			continue
-		}
-		r := u.find(int32(i))
-		if int(r) == i {
-			s.agg[i] = int32(na)
-			na++
-			x, y, z := i%nx, (i/nx)%ny, i/plane
-			c.blk = append(c.blk, int32(x/2), int32(y/2), int32(z/2))
-			continue
-		}
-		s.agg[i] = s.agg[r]
-	}
-	return na
-}
 
 // edgeSource is a finer level seen from the level built on its
 // aggregates: it visits each of its bonds once with emit, as a pair of
@@ -470,44 +272,6 @@ func (c *gLevel) visitDiag(next *gLevel) {
 	}
 }
 
-func (s *Solver) visitEdges(c *gLevel, pass int) {
-	f, agg := &s.fine, s.agg
-	nx := f.nx
-	for z := range f.nz {
-		for y := range f.ny {
-			row, _, yp, _, zp := f.offsets(y, z)
-			for x := range nx {
-				i := row + x
-				I := agg[i]
-				if I < 0 {
-					continue
-				}
-				xp := x + 1
-				if xp == nx {
-					xp = 0
-				}
-				if g := f.g[0][i]; g > 0 {
-					c.emit(pass, I, agg[row+xp], g)
-				}
-				if g := f.g[1][i]; g > 0 {
-					c.emit(pass, I, agg[yp+x], g)
-				}
-				if g := f.g[2][i]; g > 0 {
-					c.emit(pass, I, agg[zp+x], g)
-				}
-			}
-		}
-	}
-}
-
-func (s *Solver) visitDiag(c *gLevel) {
-	for i, I := range s.agg {
-		if I >= 0 {
-			c.diag[I] += s.fine.diag[i]
-		}
-	}
-}
-
 // restrict sets next.f = Pᵀ (f − A x).
 func (c *gLevel) restrict(next *gLevel) {
 	cf := next.f[:next.n]
@@ -558,23 +322,186 @@ func (s *Solver) vcycle(k int) {
 	}
 }
 
-// mgBuild builds the coarse levels for the current axis from the fine
-// network, masked to the active set, and the fine diagonal s.dg.
+// coloured reports whether the parity of x + y + z is a proper two-colouring
+// of the fine level's bonds, which fails across an odd periodic edge.
+func (s *Solver) coloured() bool {
+	for a, n := range s.box.dims() {
+		if n > 1 && n%2 == 1 && s.box.Periodic[a] {
+			return false
+		}
+	}
+	return true
+}
+
+// fineAggregates groups the active voxels of the fine level into the
+// connected components (by bonds with g > 0) of each 2×2×2 block, numbered
+// in the order of their first voxel, sets s.agg (−1 off the active set)
+// and level c's block grid, and returns the number of aggregates. Two face
+// neighbours of the active set are always bonded (both conduct), so a
+// component is found by a flood fill inside its block from its first
+// voxel.
+func (s *Solver) fineAggregates(c *gLevel) int {
+	box := s.box
+	nx, ny, nz := box.NX, box.NY, box.NZ
+	plane := nx * ny
+	a, cl := s.axisA, s.cl
+	for i, l := range cl.Label {
+		s.agg[i] = -1
+		if l >= 0 && cl.Spans[l][a] {
+			s.agg[i] = -2 // active, not yet in an aggregate
+		}
+	}
+	c.dims = [3]int{(nx + 1) / 2, (ny + 1) / 2, (nz + 1) / 2}
+	c.blk = c.blk[:0]
+	na := int32(0)
+	for z := range nz {
+		for y := range ny {
+			for x := range nx {
+				i := x + nx*(y+ny*z)
+				if s.agg[i] != -2 {
+					continue
+				}
+				s.agg[i] = na
+				c.blk = append(c.blk, int32(x/2), int32(y/2), int32(z/2))
+				st := append(s.stack[:0], int32(i))
+				for len(st) > 0 {
+					j := int(st[len(st)-1])
+					st = st[:len(st)-1]
+					jx, jy, jz := j%nx, (j/nx)%ny, j/plane
+					try := func(ok bool, k int) {
+						if ok && s.agg[k] == -2 {
+							s.agg[k] = na
+							st = append(st, int32(k))
+						}
+					}
+					try(jx&1 == 0 && jx+1 < nx, j+1)
+					try(jx&1 == 1, j-1)
+					try(jy&1 == 0 && jy+1 < ny, j+nx)
+					try(jy&1 == 1, j-nx)
+					try(jz&1 == 0 && jz+1 < nz, j+plane)
+					try(jz&1 == 1, j-plane)
+				}
+				s.stack = st
+				na++
+			}
+		}
+	}
+	return int(na)
+}
+
+// assembleFine builds coarse level c, of nc aggregates, from the fine
+// level: the Galerkin operator Pᵀ A P, aggregate by aggregate. The voxels
+// of aggregate I lie in its 2×2×2 block; their bonds to other aggregates J
+// are summed into the entry (I, J) of row I, in the order they are met
+// (voxels in raster order, bonds +x, −x, +y, −y, +z, −z), and the diagonal
+// is the sum of their diagonals less each bond inside the aggregate, met
+// once from each end. The rows are written in order, merged as they are
+// formed, so no unmerged entries are held.
+func (s *Solver) assembleFine(c *gLevel, nc int) {
+	box := s.box
+	nx, ny, nz := box.NX, box.NY, box.NZ
+	dims := box.dims()
+	c.n = nc
+	c.ptr = growI32(c.ptr, nc+1)
+	c.diag = grow(c.diag, nc)
+	c.invd = grow(c.invd, nc)
+	c.f = grow(c.f, nc)
+	c.x = grow(c.x, nc)
+	c.col, c.val = c.col[:0], c.val[:0]
+	dg := s.rows[0][1]
+	for I := range nc {
+		c.ptr[I] = int32(len(c.col))
+		start := len(c.col)
+		var diag float64
+		b := c.blk[3*I : 3*I+3]
+		for z := 2 * int(b[2]); z < min(2*int(b[2])+2, nz); z++ {
+			for y := 2 * int(b[1]); y < min(2*int(b[1])+2, ny); y++ {
+				for x := 2 * int(b[0]); x < min(2*int(b[0])+2, nx); x++ {
+					i := box.Index(x, y, z)
+					if s.agg[i] != int32(I) {
+						continue
+					}
+					s.gather(nil, y, z, x, nx, nil, dg)
+					diag += dg[x]
+					ci := int(s.cls[i]) << 8
+					for k := range 3 {
+						if dims[k] == 1 {
+							continue // no bond to itself
+						}
+						for _, step := range [2]int{1, -1} {
+							q := [3]int{x, y, z}
+							q[k] += step
+							if q[k] < 0 || q[k] >= dims[k] {
+								if !box.Periodic[k] {
+									continue
+								}
+								q[k] = (q[k] + dims[k]) % dims[k]
+							}
+							j := box.Index(q[0], q[1], q[2])
+							g := s.gt[ci|int(s.cls[j])]
+							if g == 0 {
+								continue
+							}
+							J := s.agg[j]
+							if J == int32(I) {
+								diag -= float64(g)
+								continue
+							}
+							found := false
+							for e := start; e < len(c.col); e++ {
+								if c.col[e] == J {
+									c.val[e] += g
+									found = true
+									break
+								}
+							}
+							if !found {
+								c.col = append(c.col, J)
+								c.val = append(c.val, g)
+							}
+						}
+					}
+				}
+			}
+		}
+		c.diag[I] = diag
+		c.invd[I] = 0
+		if diag > 1e-300 {
+			c.invd[I] = 1 / diag
+		}
+	}
+	c.ptr[nc] = int32(len(c.col))
+}
+
+// mgBuild builds the coarse levels for the current axis, unless the levels
+// of the previous axis of this solve serve: the same active clusters and
+// no electrodes (then the operator is the same).
 func (s *Solver) mgBuild() {
-	s.mg = s.mg[:0]
-	s.fine = mgLevel{nx: s.box.NX, ny: s.box.NY, nz: s.box.NZ, g: s.g, diag: s.dg, invd: s.invd}
-	if s.fine.len() <= mgCoarsestLen {
+	s.useMG = !s.jacobiOnly && s.box.Len() > mgCoarsestLen
+	if !s.useMG {
 		return
+	}
+	a, cl := s.axisA, s.cl
+	if s.hierOK && s.elec < 0 && s.hierElec < 0 && len(s.hierAct) == len(cl.Spans) {
+		same := true
+		for c, sp := range cl.Spans {
+			same = same && sp[a] == s.hierAct[c]
+		}
+		if same {
+			return
+		}
+	}
+	s.hierOK, s.hierElec = true, s.elec
+	s.hierAct = s.hierAct[:0]
+	for _, sp := range cl.Spans {
+		s.hierAct = append(s.hierAct, sp[a])
 	}
 	if cap(s.mg) == 0 {
 		s.mg = append(s.mg, gLevel{})
 	}
 	s.mg = s.mg[:1]
 	c := &s.mg[0]
-	c.assemble(s.fineAggregates(c), s)
-	if s.fine.coloured() {
-		s.buildColourLists(s.agg)
-	}
+	s.assembleFine(c, s.fineAggregates(c))
 	for {
 		c := &s.mg[len(s.mg)-1]
 		if c.n <= mgCoarsestLen || c.dims == [3]int{1, 1, 1} {
@@ -587,8 +514,8 @@ func (s *Solver) mgBuild() {
 		}
 		c = &s.mg[len(s.mg)-2]
 		next := &s.mg[len(s.mg)-1]
-		s.uf = growI32(s.uf, c.n)
-		nn := c.aggregate(next, uf(s.uf))
+		s.cuf = growI32(s.cuf, c.n)
+		nn := c.aggregate(next, uf(s.cuf))
 		if nn == c.n {
 			s.mg = s.mg[:len(s.mg)-1]
 			return
@@ -616,7 +543,7 @@ func (s *Solver) mgPrecond(started bool) float64 {
 	// when the colouring is proper: only the red ones are formed and
 	// restricted.
 	s.resColour = -1
-	if s.fine.coloured() && mgFineSweeps > 0 {
+	if s.coloured() && mgFineSweeps > 0 {
 		s.resColour = 0
 	}
 	clear(s.mg[0].f[:s.mg[0].n])
@@ -635,29 +562,40 @@ func (s *Solver) mgPrecond(started bool) float64 {
 }
 
 // sweepPass runs a fine half sweep, in parallel when the colouring is
-// proper.
+// proper, else on one worker in raster order (reverse raster order when
+// s.mgReverse).
 func (s *Solver) sweepPass() {
-	if s.fine.coloured() {
+	if s.coloured() {
 		s.parallel(passMGSweep)
 		return
 	}
 	if s.mgFirst {
 		clear(s.z)
 	}
-	s.fine.sweepOrdered(s.z, s.r, s.mgColour, s.mgReverse, s.part)
+	s.sweep(s.z, s.r, s.mgColour, false, s.mgReverse, 0, s.box.NZ, s.rows[0][0], s.rows[0][1])
 }
 
-// sweepOrdered is the half sweep of colour c for a level whose colouring
-// is not proper: Gauss–Seidel over the voxels of colour c in raster order,
-// or in reverse raster order (its adjoint) when reverse, on the whole
-// level. It adds Σ f_i x_i per plane to part when part is not nil.
-func (lv *mgLevel) sweepOrdered(x, f []float64, c int, reverse bool, part [][3]float64) {
-	nx, ny, nz := lv.nx, lv.ny, lv.nz
-	gx, gy, gz := lv.g[0], lv.g[1], lv.g[2]
-	for zz := range nz {
+// sweep does a half sweep of Gauss–Seidel on A x = f over the voxels of
+// colour c in the planes [z0, z1), in raster order or, when reverse, in
+// reverse raster order,
+//
+//	x_i = (f_i + Σ_j g_ij x_j) · m_i,
+//
+// m_i = 1/A_ii rounded to single precision (the same in every sweep, so
+// that the cycle stays symmetric), or, when first, sets
+// x = D⁻¹f on colour c and x = 0 on the other colour (the half sweep from
+// x = 0 on a properly coloured level). It adds Σ f_i x_i per plane to
+// s.part. On a properly coloured level no two voxels of colour c touch, so
+// the order does not matter; otherwise the only neighbours of one colour
+// within a row are x = 0 and x = NX−1 across an odd periodic edge, and the
+// one of them that comes later in the sweep is updated after the others.
+func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int, sum, dg []float64) {
+	nx, ny := s.box.NX, s.box.NY
+	wrapX := nx > 1 && nx%2 == 1 && s.box.Periodic[0]
+	for zz := z0; zz < z1; zz++ {
 		z := zz
 		if reverse {
-			z = nz - 1 - zz
+			z = z0 + z1 - 1 - zz
 		}
 		var fx float64
 		for yy := range ny {
@@ -665,78 +603,158 @@ func (lv *mgLevel) sweepOrdered(x, f []float64, c int, reverse bool, part [][3]f
 			if reverse {
 				y = ny - 1 - yy
 			}
-			row, ym, yp, zm, zp := lv.offsets(y, z)
-			for xx := range nx {
-				i := xx
+			row := nx * (y + ny*z)
+			xr, fr := x[row:row+nx], f[row : row+nx][:nx]
+			x0 := (c + y + z) & 1
+			mr := s.invd[row : row+nx][:nx]
+			if first {
+				clear(xr)
+				for i := x0; i < nx; i += 2 {
+					if m := mr[i]; m != 0 {
+						v := float32(float64(fr[i]) * float64(m))
+						xr[i] = v
+						fx += float64(fr[i]) * float64(v)
+					}
+				}
+				continue
+			}
+			lo, hi := x0, nx // the voxels updated together
+			late := -1       // the one updated after them
+			if wrapX && x0 == 0 {
 				if reverse {
-					i = nx - 1 - xx
+					late, lo, hi = 0, 2, nx-1
+					s.gather(x, y, z, nx-1, nx, sum, dg)
+					fx += s.gsUpdate(xr, fr, mr, sum, nx-1, nx, 1)
+				} else {
+					late, hi = nx-1, nx-1
 				}
-				if (c+i+y+z)&1 != 0 {
-					continue
+			}
+			// The ends of the row go through gather (their x neighbours
+			// wrap or are cut), the interior through sweepRow.
+			if lo < hi {
+				ilo, ihi := lo, hi
+				lastEl := lo + 2*((hi-1-lo)/2)
+				if lo == 0 {
+					s.gather(x, y, z, 0, nx, sum, dg)
+					fx += s.gsUpdate(xr, fr, mr, sum, 0, 1, 1)
+					ilo = 2
 				}
-				m := lv.diag[row+i]
-				if m == 0 {
-					continue
+				if lastEl == nx-1 && lastEl != 0 {
+					s.gather(x, y, z, lastEl, nx, sum, dg)
+					fx += s.gsUpdate(xr, fr, mr, sum, lastEl, lastEl+1, 1)
+					ihi = lastEl
 				}
-				ip, im := (i+1)%nx, (i+nx-1)%nx
-				v := f[row+i] + float64(gx[row+i])*x[row+ip] + float64(gx[row+im])*x[row+im] +
-					float64(gy[row+i])*x[yp+i] + float64(gy[ym+i])*x[ym+i] +
-					float64(gz[row+i])*x[zp+i] + float64(gz[zm+i])*x[zm+i]
-				v /= m
-				x[row+i] = v
-				fx += f[row+i] * v
+				if ilo < ihi {
+					fx += s.sweepRow(x, fr, mr, y, z, ilo, ihi)
+				}
+			}
+			if late >= 0 {
+				s.gather(x, y, z, late, nx, sum, dg)
+				fx += s.gsUpdate(xr, fr, mr, sum, late, late+1, 1)
 			}
 		}
-		if part != nil {
-			part[z][0] += fx
+		s.part[z][0] += fx
+	}
+}
+
+// sweepRow is the Gauss–Seidel update x_i = (f_i + Σ_j g_ij x_j)·m_i of
+// the voxels lo, lo+2, … < hi of row (y, z) with 0 < lo and hi < NX (no
+// wrap along x) and m_i ≠ 0, each from the values before the call, as
+// gather followed by gsUpdate computes it; it returns Σ f_i x_i.
+func (s *Solver) sweepRow(x, fr, mr []float32, y, z, lo, hi int) float64 {
+	nx := s.box.NX
+	if lo == 0 {
+		panic("percolation: sweepRow at x = 0")
+	}
+	g := s.gt
+	cr, cym, cyp, czm, czp, row, ym, yp, zm, zp := s.rowClasses(y, z)
+	cr, cym, cyp, czm, czp = cr[:nx], cym[:nx], cyp[:nx], czm[:nx], czp[:nx]
+	vr, vym, vyp, vzm, vzp := x[row : row+nx][:nx], x[ym : ym+nx][:nx], x[yp : yp+nx][:nx], x[zm : zm+nx][:nx], x[zp : zp+nx][:nx]
+	fr, mr = fr[:nx], mr[:nx]
+	var fx float64
+	for i := lo; i < hi; i += 2 {
+		m := mr[i]
+		if m == 0 {
+			continue
+		}
+		ci := int(cr[i]) << 8
+		gxp, gxm := float64(g[uint16(ci|int(cr[i+1]))]), float64(g[uint16(ci|int(cr[i-1]))])
+		gyp, gym := float64(g[uint16(ci|int(cyp[i]))]), float64(g[uint16(ci|int(cym[i]))])
+		gzp, gzm := float64(g[uint16(ci|int(czp[i]))]), float64(g[uint16(ci|int(czm[i]))])
+		sum := (gxp*float64(vr[i+1]) + gxm*float64(vr[i-1])) +
+			(gyp*float64(vyp[i]) + gym*float64(vym[i])) +
+			(gzp*float64(vzp[i]) + gzm*float64(vzm[i]))
+		v := float32((float64(fr[i]) + sum) * float64(m))
+		vr[i] = v
+		fx += float64(fr[i]) * float64(v)
+	}
+	return fx
+}
+
+// gsUpdate sets x_i = (f_i + sum_i)·m_i for i = lo, lo+step, … < hi where
+// m_i ≠ 0 and returns Σ f_i x_i.
+func (s *Solver) gsUpdate(xr, fr, mr []float32, sum []float64, lo, hi, step int) float64 {
+	var fx float64
+	for i := lo; i < hi; i += step {
+		if m := mr[i]; m != 0 {
+			v := float32((float64(fr[i]) + sum[i]) * float64(m))
+			xr[i] = v
+			fx += float64(fr[i]) * float64(v)
+		}
+	}
+	return fx
+}
+
+// restrictResidual adds the residual f − A x of each active voxel of the
+// planes [z0, z1) to the right-hand side cf of its aggregate (Pᵀ of the
+// residual), visiting only the voxels of colour c when c ≥ 0 (the residual
+// vanishes on the other colour). The voxels of one aggregate lie in one
+// 2×2×2 block, so ranges of planes that start at even planes write
+// disjoint entries of cf, each in the same order whatever the ranges.
+func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, sum, dg []float64) {
+	nx, ny := s.box.NX, s.box.NY
+	for z := z0; z < z1; z++ {
+		for y := range ny {
+			row := nx * (y + ny*z)
+			x0, step := 0, 1
+			if c >= 0 {
+				x0, step = (c+y+z)&1, 2
+			}
+			s.gather(x, y, z, x0, step, sum, dg)
+			xr, fr, ar := x[row:row+nx], f[row : row+nx][:nx], s.agg[row : row+nx][:nx]
+			for i := x0; i < nx; i += step {
+				if I := ar[i]; I >= 0 {
+					cf[I] += float64(fr[i]) - dg[i]*float64(xr[i]) + sum[i]
+				}
+			}
 		}
 	}
 }
 
 // mgPass runs the fine-level multigrid pass op on the planes [z0, z1).
-func (s *Solver) mgPass(op, z0, z1 int) {
-	plane := s.box.NX * s.box.NY
-	lo, hi := z0*plane, z1*plane
+func (s *Solver) mgPass(op, z0, z1 int, sum, dg []float64) {
 	switch op {
 	case passMGSweep:
-		if !s.mgFirst {
-			s.fine.sweepList(&s.col[s.mgColour], s.z, s.r, z0, z1, s.part)
-			return
-		}
-		s.fine.sweep(s.z, s.r, s.mgColour, s.mgFirst, z0, z1, s.part)
+		s.sweep(s.z, s.r, s.mgColour, s.mgFirst, false, z0, z1, sum, dg)
 	case passMGResidual:
-		if s.resColour >= 0 {
-			s.fine.restrictList(&s.col[s.resColour], s.z, s.r, s.mg[0].f, z0, z1)
-			return
-		}
-		s.fine.restrictResidual(s.z, s.r, s.agg, s.mg[0].f, s.resColour, z0, z1)
+		s.restrictResidual(s.z, s.r, s.mg[0].f, s.resColour, z0, z1, sum, dg)
 	case passMGProlong: // z += P (coarse x), on red only when the black half sweep that follows overwrites black
 		cx := s.mg[0].x
-		if s.resColour >= 0 {
-			s.fine.prolongList(&s.col[0], s.z, cx, z0, z1)
-			return
-		}
 		nx, ny := s.box.NX, s.box.NY
 		for z := z0; z < z1; z++ {
 			for y := range ny {
 				row := nx * (y + ny*z)
 				x0, step := 0, 1
 				if s.resColour >= 0 {
-					x0, step = (y+z)&1, 2
+					x0, step = (s.resColour+y+z)&1, 2
 				}
 				xr, ar := s.z[row:row+nx], s.agg[row : row+nx][:nx]
 				for i := x0; i < nx; i += step {
 					if I := ar[i]; I >= 0 {
-						xr[i] += cx[I]
+						xr[i] = float32(float64(xr[i]) + cx[I])
 					}
 				}
 			}
-		}
-	case passMGDirection: // p = z + βp
-		beta := s.beta
-		p := s.p[lo:hi]
-		for i, zi := range s.z[lo:hi][:len(p)] {
-			p[i] = zi + beta*p[i]
 		}
 	}
 }
