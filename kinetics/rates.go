@@ -34,8 +34,12 @@ type Dissolution struct {
 	Phase          ID
 	VelocityUMPerH float64 // surface recession velocity at 20 °C, µm/h
 	ThroughProduct float64 // β, 0–1
-	SulfateFactor  float64 // multiplier while sulfate remains (aluminates); 1 = none
-	EaKJPerMol     float64 // apparent activation energy, kJ/mol
+	// SulfateFactor is the retardation of the phase's dissolution in a
+	// solution fully supplied with sulfate (the aluminates); 1 = none. The
+	// factor in force follows the sulfate available to the solution through
+	// Params.SulfateRetardation.
+	SulfateFactor float64
+	EaKJPerMol    float64 // apparent activation energy, kJ/mol
 }
 
 // Params are the rate constants and growth rules of the engine. The zero
@@ -65,6 +69,17 @@ type Params struct {
 	CHNucleationPerUM3H float64
 	// GypsumSolubilityMolPerL bounds the dissolved sulfate pool.
 	GypsumSolubilityMolPerL float64
+	// SulfateSupplyLengthUM is λ of the sulfate availability σ: the solid
+	// sulfate that can reach the solution is counted as the exposed sulfate
+	// area (faces touching water, and faces under product weighted by the
+	// phase's through-product factor β) times λ. See SulfateAvailability.
+	SulfateSupplyLengthUM float64
+	// WaterHalfPorosity (φ½) and WaterExponent (m) shape the water and
+	// space law of dissolution; see WaterFactor.
+	WaterHalfPorosity, WaterExponent float64
+	// SulfateHalf (σ½) and SulfateHill (n) shape the retardation law of the
+	// aluminates; see SulfateRetardation.
+	SulfateHalf, SulfateHill float64
 	// AttemptPerH is the rate at which each dissolved product unit makes a
 	// precipitation attempt (a random walk of WalkSteps through the pore
 	// water), per hour.
@@ -105,25 +120,30 @@ func DefaultParams() Params {
 	ea := 40.0 // kJ/mol, the typical 40–45 of ASTM C1074 guidance (REFERENCES.md, from memory)
 	return Params{
 		Dissolve: []Dissolution{
-			{Phase: C3S, VelocityUMPerH: 0.045, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: ea},
-			{Phase: C2S, VelocityUMPerH: 0.005, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: ea},
-			{Phase: C3A, VelocityUMPerH: 0.6, ThroughProduct: 0.15, SulfateFactor: 0.01, EaKJPerMol: ea},
-			{Phase: C4AF, VelocityUMPerH: 0.15, ThroughProduct: 0.15, SulfateFactor: 0.05, EaKJPerMol: ea},
+			{Phase: C3S, VelocityUMPerH: 0.04, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: C2S, VelocityUMPerH: 0.003, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: C3A, VelocityUMPerH: 0.05, ThroughProduct: 0.1, SulfateFactor: 0.3, EaKJPerMol: ea},
+			{Phase: C4AF, VelocityUMPerH: 0.025, ThroughProduct: 0.05, SulfateFactor: 0.4, EaKJPerMol: ea},
 			{Phase: Gypsum, VelocityUMPerH: 5, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: Hemihydrate, VelocityUMPerH: 10, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: Anhydrite, VelocityUMPerH: 2, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: AFt, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 		},
-		SilicateSaturation:      0.002,
+		SilicateSaturation:      0.001,
 		CSHNucleationPerUM2H:    0.00006,
 		CHSaturation:            0.004,
 		CHNucleationPerUM3H:     1e-5,
 		GypsumSolubilityMolPerL: 0.015, // about 2.4 g/L CaSO4·2H2O at 20 °C (common practice)
+		SulfateSupplyLengthUM:   0.05,
+		WaterHalfPorosity:       0.15,
+		WaterExponent:           4,
+		SulfateHalf:             0.3,
+		SulfateHill:             3,
 		AttemptPerH:             6,
 		WalkSteps:               250,
 		SpawnSteps:              400,
 		NucleationEaKJPerMol:    ea,
-		ProductLengthUM:         1,
+		ProductLengthUM:         0.6,
 		Growth: []Growth{
 			{Product: CSHOuter,
 				On:     map[ID]float64{CSHInner: 0.15, CSHOuter: 0.15, Calcite: 0.01},
@@ -140,6 +160,67 @@ func DefaultParams() Params {
 				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, AFt: 0.03, AFm: 0.03, Hydrogarnet: 0.03}},
 		},
 	}
+}
+
+// SulfateAvailability returns σ, the sulfate available to the pore
+// solution relative to a solution saturated with gypsum:
+//
+//	σ = (n_pool + λ · A_s · ρ_s) / (c_sat · V_w)
+//
+// with n_pool the dissolved sulfate (mol of CaSO4), A_s the exposed area
+// of solid sulfate (µm², faces under product weighted by β), λ the supply
+// length SulfateSupplyLengthUM (µm), ρ_s the molar density of the sulfate
+// phase (mol/µm³, summed per phase by the caller into surfMol = λ·A_s·ρ_s),
+// c_sat the gypsum solubility (mol/L) and V_w the pore-water volume (L).
+// σ is about 1 for a saturated solution with no solid left, much more
+// while gypsum surface is exposed, and falls to 0 as the solution is
+// drained of sulfate. It returns 0 when there is no pore water.
+func (p *Params) SulfateAvailability(poolMol, surfMol, waterL float64) float64 {
+	sat := p.GypsumSolubilityMolPerL * waterL
+	if !(sat > 0) {
+		return 0
+	}
+	return (poolMol + surfMol) / sat
+}
+
+// WaterFactor returns the factor by which the water-filled capillary
+// porosity φ_w (water-filled pore voxels over all voxels) slows every
+// dissolution:
+//
+//	F_w(φ_w) = φ_w^m / (φ_w^m + φ½^m)
+//
+// Dissolved matter must leave a grain, through its product, into the pore
+// water and find space there to precipitate; both the outward transport
+// (the diffusivity of a capillary pore network falls steeply with its
+// porosity, as in Archie's law — common practice) and the space to grow
+// shrink with φ_w. So a dense paste (low w/c) slows well before Powers'
+// space limit, and a sealed paste, whose pores empty as it shrinks, slows
+// sooner than a saturated one (Powers; Taylor, Cement Chemistry 1997,
+// §8 — from memory).
+func (p *Params) WaterFactor(phiW float64) float64 {
+	if !(phiW > 0) {
+		return 0
+	}
+	x := math.Pow(phiW/p.WaterHalfPorosity, p.WaterExponent)
+	return x / (1 + x)
+}
+
+// SulfateRetardation returns the factor by which sulfate in the solution
+// slows the dissolution of a phase with retardation f (SulfateFactor) at
+// sulfate availability σ:
+//
+//	g(σ) = f + (1 − f) / (1 + (σ/σ½)^n)
+//
+// A smooth law of the solution, after the adsorption of sulfate on the
+// aluminate surfaces (Taylor, Cement Chemistry 1997, §7.5 — from memory):
+// g = f while the solution is well supplied, g → 1 as σ falls below σ½.
+// For a phase with f = 1 it is 1 whatever σ.
+func (p *Params) SulfateRetardation(f, sigma float64) float64 {
+	if f >= 1 {
+		return 1
+	}
+	x := math.Pow(math.Max(sigma, 0)/p.SulfateHalf, p.SulfateHill)
+	return f + (1-f)/(1+x)
 }
 
 // DissolutionOf returns the dissolution law of a phase, or nil.
@@ -184,6 +265,8 @@ func (p *Params) Validate() error {
 		{"silicate_saturation", p.SilicateSaturation}, {"csh_nucleation_per_um2_h", p.CSHNucleationPerUM2H},
 		{"ch_saturation", p.CHSaturation}, {"ch_nucleation_per_um3_h", p.CHNucleationPerUM3H},
 		{"gypsum_solubility_mol_per_l", p.GypsumSolubilityMolPerL}, {"attempt_per_h", p.AttemptPerH},
+		{"sulfate_supply_length_um", p.SulfateSupplyLengthUM}, {"sulfate_half", p.SulfateHalf}, {"sulfate_hill", p.SulfateHill},
+		{"water_half_porosity", p.WaterHalfPorosity}, {"water_exponent", p.WaterExponent},
 	}
 	for _, q := range pos {
 		if !(q.v > 0) || math.IsInf(q.v, 0) {

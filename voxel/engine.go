@@ -34,7 +34,8 @@ type Engine struct {
 	slot     []int32
 	sets     [][]int32 // d*classesPerPhase + exposure class → members
 	sumW     []int     // per d: Σ faces touching water
-	sumH     []int     // per d: Σ faces touching C-S-H
+	sumH     []int     // per d: Σ faces touching hydrate (product)
+	sulfMol  []float64 // per d: mol per µm³ for sulfate carriers, 0 otherwise
 	rules    [kinetics.NumIDs]*stickRule
 	anySolid stickRule     // rule for trapped units
 	products []kinetics.ID // products that travel as units, in event order
@@ -155,6 +156,11 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		e.beta = append(e.beta, d.ThroughProduct)
 		e.sulfFac = append(e.sulfFac, d.SulfateFactor)
 		e.ea = append(e.ea, d.EaKJPerMol)
+		sm := 0.0
+		if ph := kinetics.Lookup(d.Phase); ph.Role == kinetics.RoleSulfate {
+			sm = 1e-12 / ph.MolarVolumeCM3()
+		}
+		e.sulfMol = append(e.sulfMol, sm)
 		rx := -1
 		switch d.Phase {
 		case kinetics.C3S:
@@ -278,8 +284,12 @@ func (e *Engine) exposure(i int) (w, h int) {
 		switch e.g.Phase[j] {
 		case kinetics.Water:
 			w++
-		case kinetics.CSHInner, kinetics.CSHOuter:
-			h++
+		default:
+			// Any hydrate is product the voxel can dissolve through: a
+			// voxel buried in CH, AFt or AFm is never stranded.
+			if kinetics.IsHydrate(e.g.Phase[j]) {
+				h++
+			}
 		}
 	}
 	return

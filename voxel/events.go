@@ -14,11 +14,6 @@ const (
 	evAttempt // one per product, in e.products order
 )
 
-// waterHalfFraction is the capillary-water fraction of the box at which
-// dissolution runs at half speed: hydration slows and stops as the water
-// runs out.
-const waterHalfFraction = 0.01
-
 // AdvanceTo runs events until the age reaches untilH hours (or nothing can
 // happen any more). Stopping at an intermediate age does not change what
 // follows: a drawn event that falls beyond untilH is kept for the next call.
@@ -64,20 +59,17 @@ func (e *Engine) computeRates() float64 {
 	}
 	water := float64(e.s.Count[kinetics.Water])
 	n := float64(e.g.Len())
-	fw := water / (water + waterHalfFraction*n)
+	fw := e.p.WaterFactor(water / n)
 	sSi := e.silicateSaturation()
-	sulfateLeft := e.sulfateLeft()
+	sigma := e.sulfateAvailability()
 	poolSat := e.p.GypsumSolubilityMolPerL * water * e.voxCM3 / 1000
 	var total float64
 	for d, id := range e.dph {
 		r := e.velPerS[d] * (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * e.arrD[d] * fw
+		r *= e.p.SulfateRetardation(e.sulfFac[d], sigma)
 		switch id {
 		case kinetics.C3S, kinetics.C2S:
 			r *= math.Max(0, 1-sSi)
-		case kinetics.C3A, kinetics.C4AF:
-			if sulfateLeft {
-				r *= e.sulfFac[d]
-			}
 		case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
 			if poolSat <= 0 {
 				r = 0
@@ -129,10 +121,19 @@ func (e *Engine) silicateSaturation() float64 {
 	return float64(len(e.s.Free[kinetics.CSHOuter])) / (e.p.SilicateSaturation * water)
 }
 
-// sulfateLeft reports whether solid sulfate remains (a small dissolved
-// remainder does not count: it cannot form a whole voxel of ettringite).
-func (e *Engine) sulfateLeft() bool {
-	return e.s.Count[kinetics.Gypsum]+e.s.Count[kinetics.Hemihydrate]+e.s.Count[kinetics.Anhydrite] > 0
+// sulfateAvailability returns σ of kinetics.SulfateAvailability: the
+// dissolved pool plus the exposed sulfate surface (faces touching water,
+// and faces under product weighted by β) times the supply length.
+func (e *Engine) sulfateAvailability() float64 {
+	a := e.g.VoxelUM * e.g.VoxelUM * e.p.SulfateSupplyLengthUM
+	surf := 0.0
+	for d, m := range e.sulfMol {
+		if m > 0 {
+			surf += (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * a * m
+		}
+	}
+	waterL := float64(e.s.Count[kinetics.Water]) * e.voxCM3 / 1000
+	return e.p.SulfateAvailability(e.s.PoolSO4Mol, surf, waterL)
 }
 
 // fire chooses and runs one event in proportion to the rates.
