@@ -25,35 +25,54 @@ func (r Role) String() string {
 	return fmt.Sprintf("Role(%d)", uint8(r))
 }
 
-// ID is a phase identifier stored in each voxel. The ranges are fixed:
-// pores 0–9, anhydrous phases 10–29, hydrates 30–59.
+// ID is a phase identifier stored in each voxel (one byte). Ids are
+// grouped in blocks by role, with gaps inside and between the blocks so
+// that phases can be added without renumbering:
+//
+//	0         not a phase (never written; a volume holding it is refused)
+//	1–19      pore space
+//	20–39     clinker phases
+//	40–49     sulfate carriers
+//	50–59     fillers
+//	60–99     supplementary cementitious materials
+//	100–199   hydration products
+//	200–255   free
 type ID = uint8
 
 // Phase identifiers. They are part of the file contract (.vti, .npy,
-// phases.csv): never renumber an existing one.
+// phases.csv): never renumber an existing one. Odd steps inside a block
+// leave room for related phases (a second C-S-H, a carboaluminate beside
+// each AFm).
 const (
-	Water       ID = 0  // water-filled capillary pore
-	Empty       ID = 1  // empty (self-desiccated) capillary pore
-	C3S         ID = 10 // alite
-	C2S         ID = 11 // belite
-	C3A         ID = 12 // aluminate
-	C4AF        ID = 13 // ferrite
-	Gypsum      ID = 14 // CaSO4·2H2O
-	Hemihydrate ID = 15 // CaSO4·0.5H2O
-	Anhydrite   ID = 16 // CaSO4
-	Calcite     ID = 17 // limestone filler, CaCO3
-	Inert       ID = 18 // inert filler (quartz-like)
-	CSHInner    ID = 30 // C-S-H formed inside an original grain outline
-	CSHOuter    ID = 31 // C-S-H formed in the original water space
-	CH          ID = 32 // portlandite
-	AFt         ID = 33 // ettringite
-	AFm         ID = 34 // monosulfate
-	Hydrogarnet ID = 35 // C3AH6
-	FH3         ID = 36 // iron/aluminium hydroxide (F,A)H3
+	Water       ID = 1   // water-filled capillary pore
+	Empty       ID = 2   // empty capillary pore (self-desiccation)
+	C3S         ID = 21  // alite
+	C2S         ID = 23  // belite
+	C3A         ID = 25  // aluminate
+	C4AF        ID = 27  // ferrite
+	Gypsum      ID = 41  // CaSO4·2H2O
+	Hemihydrate ID = 43  // CaSO4·0.5H2O
+	Anhydrite   ID = 45  // CaSO4
+	Calcite     ID = 51  // limestone filler, CaCO3
+	Inert       ID = 53  // inert filler (quartz-like)
+	CSHInner    ID = 101 // C-S-H formed inside an original grain outline
+	CSHOuter    ID = 102 // C-S-H formed in the original water space
+	CH          ID = 110 // portlandite
+	AFt         ID = 120 // ettringite
+	AFm         ID = 122 // monosulfate
+	Hydrogarnet ID = 130 // C3AH6
+	FH3         ID = 132 // iron/aluminium hydroxide (F,A)H3
 )
 
-// NumIDs bounds every phase id: arrays indexed by ID have this length.
-const NumIDs = 64
+// Ids held for the phases of blended cements and limestone reactions, so
+// that files written today keep their meaning when those phases arrive:
+// silica fume 61, fly ash 63, slag 65, metakaolin 67; pozzolanic C-S-H
+// 104; monocarbonate 124, hemicarbonate 126, strätlingite 128;
+// hydrotalcite 134.
+
+// NumIDs bounds every phase id: arrays indexed by ID have this length, so
+// any byte read from a volume file indexes them safely.
+const NumIDs = 256
 
 // Phase describes one phase. Densities and molar masses are from Taylor,
 // Cement Chemistry (1997) and Balonis & Glasser, Cem. Concr. Res. 39 (2009)
@@ -87,10 +106,10 @@ func (p *Phase) MolarVolumeCM3() float64 {
 }
 
 // IsPore, IsAnhydrous and IsHydrate classify a phase id by its range.
-func IsPore(id ID) bool      { return id < 10 }
-func IsAnhydrous(id ID) bool { return id >= 10 && id < 30 }
-func IsHydrate(id ID) bool   { return id >= 30 && id < 60 }
-func IsSolid(id ID) bool     { return id >= 10 && id < 60 }
+func IsPore(id ID) bool      { return id >= 1 && id < 20 }
+func IsAnhydrous(id ID) bool { return id >= 20 && id < 100 }
+func IsHydrate(id ID) bool   { return id >= 100 && id < 200 }
+func IsSolid(id ID) bool     { return id >= 20 && id < 200 }
 
 // WaterDensity is the density of pore water in g/cm³ at 20 °C.
 const WaterDensity = 0.998

@@ -40,7 +40,7 @@ func BenchmarkLabel200Periodic(b *testing.B) {
 // pCSH: a crude hydrated paste for benchmarks.
 func spherePaste(box Box, seed uint64, solidFrac, pCSH float64) []uint8 {
 	rng := rand.New(rand.NewPCG(seed, 17))
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	n, solid := box.Len(), 0
 	dim := box.dims()
 	for float64(solid) < solidFrac*float64(n) {

@@ -27,7 +27,7 @@ const (
 const CSHRelDiffusivity = 1.0 / 400
 
 // DefaultDiffusivities returns the default table of relative diffusivities
-// D/D0 by phase id: 1 for every pore id (0–9), CSHRelDiffusivity for inner
+// D/D0 by phase id: 1 for every pore id (kinetics.IsPore), CSHRelDiffusivity for inner
 // and outer C-S-H, and 0 (insulating) for every other phase.
 func DefaultDiffusivities() [kinetics.NumIDs]float64 {
 	var t [kinetics.NumIDs]float64
@@ -142,9 +142,9 @@ func (s *Solver) Diffusivity(box Box, phase []uint8, opt DiffusivityOptions) (Di
 	}
 	s.dbuf = grow(s.dbuf, len(phase))
 	for i, p := range phase {
-		if int(p) >= kinetics.NumIDs {
+		if kinetics.Lookup(p) == nil {
 			x, y, z := box.Coords(i)
-			return Diffusion{}, fmt.Errorf("percolation: phase id %d at voxel (%d, %d, %d) is outside the allowed range 0 to %d", p, x, y, z, kinetics.NumIDs-1)
+			return Diffusion{}, fmt.Errorf("percolation: value %d at voxel (%d, %d, %d) is not a phase id (see kinetics.Phases)", p, x, y, z)
 		}
 		s.dbuf[i] = table[p]
 	}

@@ -14,6 +14,15 @@ import (
 // single precision (relative rounding 6e-8).
 const exactTol = 1e-6
 
+// waterPhases returns n voxels of capillary water.
+func waterPhases(n int) []uint8 {
+	p := make([]uint8, n)
+	for i := range p {
+		p[i] = kinetics.Water
+	}
+	return p
+}
+
 func relErr(got, want float64) float64 {
 	if want == 0 {
 		return math.Abs(got)
@@ -69,7 +78,7 @@ func TestDiffusivityLayers(t *testing.T) {
 	// A random diffusivity per layer, many layers, with the phase table:
 	// water and C-S-H layers.
 	box := PeriodicBox(3, 3, 24)
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	rng := rand.New(rand.NewPCG(5, 6))
 	var nw int
 	for z := range box.NZ {
@@ -124,7 +133,7 @@ func TestDiffusivityMaxwell(t *testing.T) {
 func TestDiffusivityNoPath(t *testing.T) {
 	for _, box := range []Box{PeriodicBox(6, 5, 4), {NX: 6, NY: 5, NZ: 4}} {
 		// All insulating.
-		phase := make([]uint8, box.Len())
+		phase := waterPhases(box.Len())
 		for i := range phase {
 			phase[i] = kinetics.C3S
 		}
@@ -160,7 +169,7 @@ func TestDiffusivityNoPath(t *testing.T) {
 func TestDiffusivityChannel(t *testing.T) {
 	for _, periodic := range []bool{true, false} {
 		box := Box{NX: 9, NY: 7, NZ: 6, Periodic: [3]bool{periodic, periodic, periodic}}
-		phase := make([]uint8, box.Len())
+		phase := waterPhases(box.Len())
 		for i := range phase {
 			phase[i] = kinetics.CH
 		}
@@ -189,7 +198,7 @@ func TestDiffusivityChannel(t *testing.T) {
 // for cross-checks.
 func randomPaste(box Box, seed uint64, pWater, pCSH float64) []uint8 {
 	rng := rand.New(rand.NewPCG(seed, 99))
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	for i := range phase {
 		u := rng.Float64()
 		switch {
@@ -271,7 +280,7 @@ func TestDiffusivityConsistency(t *testing.T) {
 
 func TestDiffusivityOptionErrors(t *testing.T) {
 	box := PeriodicBox(3, 3, 3)
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	bad := DefaultDiffusivities()
 	bad[kinetics.CH] = -1
 	cases := []DiffusivityOptions{
@@ -286,9 +295,11 @@ func TestDiffusivityOptionErrors(t *testing.T) {
 			t.Errorf("options %+v: no error", o)
 		}
 	}
-	phase[5] = 64
-	if _, err := Diffusivity(box, phase, DiffusivityOptions{}); err == nil {
-		t.Error("phase id 64: no error")
+	for _, v := range []uint8{0, 250} {
+		phase[5] = v
+		if _, err := Diffusivity(box, phase, DiffusivityOptions{}); err == nil {
+			t.Errorf("value %d (not a phase id): no error", v)
+		}
 	}
 	d := make([]float64, box.Len())
 	d[3] = math.NaN()
@@ -313,7 +324,7 @@ func TestDiffusivityMirrorBoundaries(t *testing.T) {
 	const L = 12
 	box := PeriodicBox(L, L, L)
 	rng := rand.New(rand.NewPCG(11, 12))
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	ids := []uint8{kinetics.Water, kinetics.Water, kinetics.CSHInner, kinetics.C3S}
 	for z := range L / 2 {
 		for y := range L / 2 {
@@ -401,7 +412,7 @@ func TestDiffusivityReuseAllocs(t *testing.T) {
 // centredSphere returns a box of pore with one digitised sphere of radius r
 // voxels and phase id at its centre, and the sphere's voxel fraction.
 func centredSphere(box Box, r float64, id uint8) ([]uint8, float64) {
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	cx, cy, cz := float64(box.NX-1)/2, float64(box.NY-1)/2, float64(box.NZ-1)/2
 	solid := 0
 	for z := range box.NZ {

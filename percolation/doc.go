@@ -5,7 +5,8 @@
 //
 // Everything works on plain slices over a Box, with the voxel at (x, y, z)
 // at index x + NX*(y + NY*z), the layout of voxel.Grid; phase ids follow
-// package kinetics (pores 0–9, anhydrous 10–29, hydrates 30–59).
+// package kinetics (blocks by role: pores 1–19, anhydrous 20–99, hydrates
+// 100–199).
 //
 // # Clusters
 //

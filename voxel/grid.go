@@ -41,8 +41,12 @@ func NewGrid(nx, ny, nz int, voxelUM float64) (*Grid, error) {
 		return nil, fmt.Errorf("voxel: voxel size %g µm must be > 0", voxelUM)
 	}
 	n := nx * ny * nz
+	phase := make([]kinetics.ID, n)
+	for i := range phase {
+		phase[i] = kinetics.Water
+	}
 	return &Grid{NX: nx, NY: ny, NZ: nz, VoxelUM: voxelUM,
-		Phase: make([]kinetics.ID, n), Particle: make([]int32, n)}, nil
+		Phase: phase, Particle: make([]int32, n)}, nil
 }
 
 // Len returns the number of voxels.

@@ -19,8 +19,8 @@ import (
 //
 //	R(x) = exp(−(x/x′)^n),  Passing(x) = 1 − R(x)
 //
-// with R the mass fraction retained above x (RRSB form, DIN 66145;
-// REFERENCES.md), or a measured table interpolated linearly in passing
+// with R the mass fraction retained above x (RRSB form, DIN 66145), or a
+// measured table interpolated linearly in passing
 // against log size between its rows, linearly from (0, 0) to the first row.
 type PSD struct {
 	rrXUM, rrN float64 // Rosin–Rammler parameters when rrN > 0
@@ -178,6 +178,76 @@ func (p *PSD) QuantileUM(q float64) float64 {
 		}
 	}
 	return (lo + hi) / 2
+}
+
+// RRFit is a Rosin–Rammler law fitted to a measured table.
+type RRFit struct {
+	XUM float64 // characteristic size x′, µm (36.8 % retained)
+	N   float64 // uniformity n
+	// R2 is the coefficient of determination of the straight line in the
+	// RRSB plot, ln(−ln R) against ln x.
+	R2 float64
+	// MaxDevPercent is the largest difference, in passing percent points,
+	// between the fitted law and the table rows used.
+	MaxDevPercent float64
+	Rows          int // table rows used: those with 0.1 % < passing < 99.9 %
+}
+
+// FitRosinRammler fits the Rosin–Rammler law to the rows of a measured
+// table by least squares on the RRSB plot (DIN 66145), where the law is the
+// straight line
+//
+//	ln(−ln R(x)) = n ln x − n ln x′
+//
+// with R = 1 − passing. Rows with passing at or below 0.1 % or at or above
+// 99.9 % carry no weight there and are left out; at least two rows must
+// remain. For a Rosin–Rammler PSD it returns its own parameters.
+func (p *PSD) FitRosinRammler() (RRFit, error) {
+	if p.rrN > 0 {
+		return RRFit{XUM: p.rrXUM, N: p.rrN, R2: 1}, nil
+	}
+	var xs, ys []float64
+	for i, x := range p.sizesUM {
+		if f := p.passing[i]; f > 0.001 && f < 0.999 {
+			xs = append(xs, math.Log(x))
+			ys = append(ys, math.Log(-math.Log1p(-f)))
+		}
+	}
+	if len(xs) < 2 {
+		return RRFit{}, fmt.Errorf("PSD table has %d rows between 0.1 %% and 99.9 %% passing: need 2 for a Rosin–Rammler fit", len(xs))
+	}
+	var mx, my float64
+	for i := range xs {
+		mx += xs[i]
+		my += ys[i]
+	}
+	mx /= float64(len(xs))
+	my /= float64(len(xs))
+	var sxx, sxy, syy float64
+	for i := range xs {
+		dx, dy := xs[i]-mx, ys[i]-my
+		sxx += dx * dx
+		sxy += dx * dy
+		syy += dy * dy
+	}
+	if sxx == 0 {
+		return RRFit{}, errors.New("PSD table rows share one size: no Rosin–Rammler fit")
+	}
+	n := sxy / sxx
+	if !(n > 0) {
+		return RRFit{}, fmt.Errorf("PSD table: RRSB slope %g is not positive", n)
+	}
+	fit := RRFit{N: n, XUM: math.Exp(mx - my/n), R2: 1, Rows: len(xs)}
+	if syy > 0 {
+		fit.R2 = sxy * sxy / (sxx * syy)
+	}
+	for i, x := range p.sizesUM {
+		if f := p.passing[i]; f > 0.001 && f < 0.999 {
+			law := -math.Expm1(-math.Pow(x/fit.XUM, fit.N))
+			fit.MaxDevPercent = math.Max(fit.MaxDevPercent, 100*math.Abs(law-f))
+		}
+	}
+	return fit, nil
 }
 
 // MedianUM returns the mass-weighted median size d50 in µm.

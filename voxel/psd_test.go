@@ -170,3 +170,37 @@ func TestClasses(t *testing.T) {
 		t.Fatalf("digitised %g vs spheres %g m²/kg", sd, ss)
 	}
 }
+
+func TestFitRosinRammlerRecovers(t *testing.T) {
+	// A table made from a known law (x′ 14 µm, n 1.05, in the typical range
+	// of Portland cements — common practice) gives the law back.
+	for _, c := range []struct{ x, n float64 }{{14, 1.05}, {25, 0.85}, {8, 1.3}} {
+		law, _ := RosinRammler(c.x, c.n)
+		var sizes, pass []float64
+		for _, s := range []float64{0.5, 1, 2, 4, 8, 16, 32, 64, 128, 256} {
+			sizes = append(sizes, s)
+			pass = append(pass, 100*law.Passing(s))
+		}
+		pass[len(pass)-1] = 100
+		tab, err := NewPSDTable(sizes, pass)
+		if err != nil {
+			t.Fatal(err)
+		}
+		fit, err := tab.FitRosinRammler()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(fit.XUM-c.x) > 1e-6*c.x || math.Abs(fit.N-c.n) > 1e-6 || fit.R2 < 1-1e-9 || fit.MaxDevPercent > 1e-6 {
+			t.Errorf("law x′ %g n %g: fit %+v", c.x, c.n, fit)
+		}
+	}
+	// A table that is not Rosin–Rammler shows it in the fit quality.
+	tab, _ := NewPSDTable([]float64{1, 2, 3, 10, 30, 60}, []float64{5, 40, 45, 50, 95, 100})
+	fit, err := tab.FitRosinRammler()
+	if err != nil || fit.R2 > 0.97 || fit.MaxDevPercent < 5 {
+		t.Errorf("bimodal table: fit %+v, %v; want a poor fit", fit, err)
+	}
+	if _, err := (&PSD{sizesUM: []float64{1, 2}, passing: []float64{0, 1}}).FitRosinRammler(); err == nil {
+		t.Error("fit from no interior rows accepted")
+	}
+}

@@ -249,6 +249,22 @@ func dimsOK(nx, ny, nz int) bool {
 
 var intSizes = map[string]int{"Int8": 1, "UInt8": 1, "Int16": 2, "UInt16": 2, "Int32": 4, "UInt32": 4, "Int64": 8, "UInt64": 8}
 
+// intRange returns the smallest and largest value of a VTK integer type of
+// the given size in bytes; hi is −1 for UInt64, whose range exceeds int64.
+func intRange(typ string, size int) (lo, hi int64) {
+	bits := 8 * uint(size)
+	if strings.HasPrefix(typ, "UInt") {
+		if bits == 64 {
+			return 0, -1
+		}
+		return 0, 1<<bits - 1
+	}
+	if bits == 64 {
+		return math.MinInt64, math.MaxInt64
+	}
+	return -(1 << (bits - 1)), 1<<(bits-1) - 1
+}
+
 func readInt(b []byte, size int, signed bool, bo binary.ByteOrder) int64 {
 	switch size {
 	case 1:
@@ -370,6 +386,9 @@ func asciiToBytes(text, typ string, size int, bo binary.ByteOrder) ([]byte, erro
 		if err != nil {
 			return nil, fmt.Errorf("ascii value %q: need an integer", s)
 		}
+		if lo, hi := intRange(typ, size); v < lo || (hi >= 0 && v > hi) {
+			return nil, fmt.Errorf("ascii value %d at position %d does not fit the array type %s", v, i, typ)
+		}
 		b := out[i*size:]
 		switch size {
 		case 1:
@@ -412,64 +431,12 @@ func WriteNPY(w io.Writer, g *Grid) error {
 // fastest, shape read as (z, y, x)) and the dimensions.
 func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 	br := bufio.NewReader(r)
-	var pre [8]byte
-	if _, err = io.ReadFull(br, pre[:]); err != nil {
-		return nil, 0, 0, 0, fmt.Errorf("npy: %v", err)
-	}
-	if string(pre[:6]) != "\x93NUMPY" {
-		return nil, 0, 0, 0, errors.New("npy: not a NumPy file (bad magic)")
-	}
-	var hlen int
-	switch pre[6] {
-	case 1:
-		var b [2]byte
-		if _, err = io.ReadFull(br, b[:]); err != nil {
-			return nil, 0, 0, 0, fmt.Errorf("npy: %v", err)
-		}
-		hlen = int(binary.LittleEndian.Uint16(b[:]))
-	case 2, 3:
-		var b [4]byte
-		if _, err = io.ReadFull(br, b[:]); err != nil {
-			return nil, 0, 0, 0, fmt.Errorf("npy: %v", err)
-		}
-		hlen = int(binary.LittleEndian.Uint32(b[:]))
-	default:
-		return nil, 0, 0, 0, fmt.Errorf("npy: format version %d.%d not read (1.0 to 3.0 are)", pre[6], pre[7])
-	}
-	if hlen > 1<<20 {
-		return nil, 0, 0, 0, fmt.Errorf("npy: header of %d bytes is too long", hlen)
-	}
-	hb := make([]byte, hlen)
-	if _, err = io.ReadFull(br, hb); err != nil {
-		return nil, 0, 0, 0, fmt.Errorf("npy: header: %v", err)
-	}
-	descr, fortran, shape, err := parseNPYHeader(string(hb))
+	h, err := readNPYHeader(br)
 	if err != nil {
 		return nil, 0, 0, 0, err
 	}
-	if len(shape) != 3 {
-		return nil, 0, 0, 0, fmt.Errorf("npy: shape %v: need a 3D array (z, y, x)", shape)
-	}
-	nz, ny, nx = shape[0], shape[1], shape[2]
-	if !dimsOK(nx, ny, nz) {
-		return nil, 0, 0, 0, fmt.Errorf("npy: shape %v: each axis must be ≥ 1 and the total at most %d", shape, int64(MaxVoxels))
-	}
-	var bo binary.ByteOrder = binary.LittleEndian
-	if len(descr) < 3 {
-		return nil, 0, 0, 0, fmt.Errorf("npy: dtype %q not read", descr)
-	}
-	switch descr[0] {
-	case '>':
-		bo = binary.BigEndian
-	case '<', '|', '=':
-	default:
-		return nil, 0, 0, 0, fmt.Errorf("npy: dtype %q not read", descr)
-	}
-	kind := descr[1]
-	size, err := strconv.Atoi(descr[2:])
-	if err != nil || (kind != 'u' && kind != 'i' && kind != 'b') || (size != 1 && size != 2 && size != 4 && size != 8) {
-		return nil, 0, 0, 0, fmt.Errorf("npy: dtype %q: need an integer or boolean dtype (u1, i2, <i8, ...)", descr)
-	}
+	nx, ny, nz = h.nx, h.ny, h.nz
+	size, kind, bo, fortran := h.size, h.kind, h.bo, h.fortran
 	n := nx * ny * nz
 	// grow with the data so that a short file cannot make us allocate the
 	// size its header claims
@@ -477,8 +444,8 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 	buf := make([]byte, 1<<16-(1<<16)%size)
 	for i := 0; i < n; {
 		m := min(len(buf)/size, n-i)
-		if _, err = io.ReadFull(br, buf[:m*size]); err != nil {
-			return nil, 0, 0, 0, fmt.Errorf("npy: data ends after %d of %d values", i, n)
+		if got, err := io.ReadFull(br, buf[:m*size]); err != nil {
+			return nil, 0, 0, 0, fmt.Errorf("npy: data ends after %d of the %d values the header declares", i+got/size, n)
 		}
 		for k := 0; k < m; k++ {
 			v := readInt(buf[k*size:], size, kind == 'i', bo)
@@ -502,6 +469,91 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 		phase = c
 	}
 	return phase, nx, ny, nz, nil
+}
+
+// npyHead is what an .npy header declares.
+type npyHead struct {
+	nx, ny, nz  int
+	size        int  // bytes per value
+	kind        byte // 'u', 'i' or 'b'
+	bo          binary.ByteOrder
+	fortran     bool
+	headerBytes int64 // magic, version, length and dict
+}
+
+// readNPYHeader reads the magic, version and header dict of an .npy file.
+func readNPYHeader(br io.Reader) (npyHead, error) {
+	var pre [8]byte
+	if _, err := io.ReadFull(br, pre[:]); err != nil {
+		return npyHead{}, fmt.Errorf("npy: %v", err)
+	}
+	if string(pre[:6]) != "\x93NUMPY" {
+		return npyHead{}, errors.New("npy: not a NumPy file (bad magic)")
+	}
+	var hlen, hlenSize int
+	switch pre[6] {
+	case 1:
+		var b [2]byte
+		if _, err := io.ReadFull(br, b[:]); err != nil {
+			return npyHead{}, fmt.Errorf("npy: %v", err)
+		}
+		hlen, hlenSize = int(binary.LittleEndian.Uint16(b[:])), 2
+	case 2, 3:
+		var b [4]byte
+		if _, err := io.ReadFull(br, b[:]); err != nil {
+			return npyHead{}, fmt.Errorf("npy: %v", err)
+		}
+		hlen, hlenSize = int(binary.LittleEndian.Uint32(b[:])), 4
+	default:
+		return npyHead{}, fmt.Errorf("npy: format version %d.%d not read (1.0 to 3.0 are)", pre[6], pre[7])
+	}
+	if hlen > 1<<20 {
+		return npyHead{}, fmt.Errorf("npy: header of %d bytes is too long", hlen)
+	}
+	hb := make([]byte, hlen)
+	if _, err := io.ReadFull(br, hb); err != nil {
+		return npyHead{}, fmt.Errorf("npy: header: %v", err)
+	}
+	descr, fortran, shape, err := parseNPYHeader(string(hb))
+	if err != nil {
+		return npyHead{}, err
+	}
+	h := npyHead{fortran: fortran, headerBytes: int64(len(pre) + hlenSize + hlen)}
+	if len(shape) != 3 {
+		return npyHead{}, fmt.Errorf("npy: shape %v: need a 3D array (z, y, x)", shape)
+	}
+	h.nz, h.ny, h.nx = shape[0], shape[1], shape[2]
+	if !dimsOK(h.nx, h.ny, h.nz) {
+		return npyHead{}, fmt.Errorf("npy: shape %v: each axis must be ≥ 1 and the total at most %d", shape, int64(MaxVoxels))
+	}
+	h.bo = binary.LittleEndian
+	if len(descr) < 3 {
+		return npyHead{}, fmt.Errorf("npy: dtype %q not read", descr)
+	}
+	switch descr[0] {
+	case '>':
+		h.bo = binary.BigEndian
+	case '<', '|', '=':
+	default:
+		return npyHead{}, fmt.Errorf("npy: dtype %q not read", descr)
+	}
+	h.kind = descr[1]
+	size, err := strconv.Atoi(descr[2:])
+	if err != nil || (h.kind != 'u' && h.kind != 'i' && h.kind != 'b') || (size != 1 && size != 2 && size != 4 && size != 8) {
+		return npyHead{}, fmt.Errorf("npy: dtype %q: need an integer or boolean dtype (u1, i2, <i8, ...)", descr)
+	}
+	h.size = size
+	return h, nil
+}
+
+// npyDims reads an .npy header and returns the dimensions and the file
+// length the header implies.
+func npyDims(r io.Reader) (nx, ny, nz int, need int64, err error) {
+	h, err := readNPYHeader(bufio.NewReader(r))
+	if err != nil {
+		return 0, 0, 0, 0, err
+	}
+	return h.nx, h.ny, h.nz, h.headerBytes + int64(h.nx)*int64(h.ny)*int64(h.nz)*int64(h.size), nil
 }
 
 // parseNPYHeader reads the Python dict literal of an .npy header.
@@ -565,8 +617,11 @@ func parseNPYHeader(h string) (descr string, fortran bool, shape []int, err erro
 // ReadVolume reads a saved or imported volume by its extension: .vti
 // (ReadVTI) or .npy (ReadNPY; no particle ids, voxel edge taken as 1 µm
 // since the format does not carry it).
+//
+// Only regular files of at most MaxVolumeFileBytes are read, so that a
+// device or a runaway file cannot make the reader grow without bound.
 func ReadVolume(path string) (*Grid, error) {
-	f, err := os.Open(path)
+	f, err := openVolume(path)
 	if err != nil {
 		return nil, err
 	}
@@ -588,4 +643,94 @@ func ReadVolume(path string) (*Grid, error) {
 	default:
 		return nil, fmt.Errorf("%s: unknown volume type %q: use .vti or .npy", path, filepath.Ext(path))
 	}
+}
+
+// MaxVolumeFileBytes bounds the size of a volume file that ReadVolume and
+// StatVolume open: 16 GiB, enough for the largest box (MaxVoxels) saved as
+// .vti with both arrays.
+const MaxVolumeFileBytes = 16 << 30
+
+func openVolume(path string) (*os.File, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	st, err := f.Stat()
+	if err != nil {
+		f.Close()
+		return nil, err
+	}
+	if !st.Mode().IsRegular() {
+		f.Close()
+		return nil, fmt.Errorf("%s: not a regular file", path)
+	}
+	if st.Size() > MaxVolumeFileBytes {
+		f.Close()
+		return nil, fmt.Errorf("%s: %d bytes, more than the %d bytes a volume file may have", path, st.Size(), int64(MaxVolumeFileBytes))
+	}
+	return f, nil
+}
+
+// StatVolume reads only the header of a .vti or .npy volume and returns its
+// dimensions in voxels, so that a caller can estimate the memory a full read
+// and analysis would need before it allocates anything. For .npy files it
+// also checks that the file is long enough for the data its header declares.
+func StatVolume(path string) (nx, ny, nz int, err error) {
+	f, err := openVolume(path)
+	if err != nil {
+		return 0, 0, 0, err
+	}
+	defer f.Close()
+	switch strings.ToLower(filepath.Ext(path)) {
+	case ".vti":
+		head := make([]byte, 1<<16)
+		k, _ := io.ReadFull(f, head)
+		nx, ny, nz, err = vtiDims(head[:k])
+	case ".npy":
+		var need int64
+		nx, ny, nz, need, err = npyDims(f)
+		if err == nil {
+			if st, e := f.Stat(); e == nil && st.Size() < need {
+				err = fmt.Errorf("npy: %d bytes, but the header declares %d×%d×%d values (%d bytes)", st.Size(), nx, ny, nz, need)
+			}
+		}
+	default:
+		return 0, 0, 0, fmt.Errorf("%s: unknown volume type %q: use .vti or .npy", path, filepath.Ext(path))
+	}
+	if err != nil {
+		return 0, 0, 0, fmt.Errorf("%s: %v", path, err)
+	}
+	return nx, ny, nz, nil
+}
+
+// vtiDims finds the WholeExtent of the ImageData element in the first bytes
+// of a .vti file.
+func vtiDims(head []byte) (nx, ny, nz int, err error) {
+	k := bytes.Index(head, []byte("<ImageData"))
+	if k < 0 {
+		return 0, 0, 0, errors.New("vti: no ImageData element in the first 64 KiB")
+	}
+	rest := head[k:]
+	if e := bytes.IndexByte(rest, '>'); e >= 0 {
+		rest = rest[:e]
+	}
+	const key = `WholeExtent="`
+	a := bytes.Index(rest, []byte(key))
+	if a < 0 {
+		return 0, 0, 0, errors.New("vti: ImageData has no WholeExtent")
+	}
+	val := rest[a+len(key):]
+	b := bytes.IndexByte(val, '"')
+	if b < 0 {
+		return 0, 0, 0, errors.New("vti: unterminated WholeExtent")
+	}
+	ext, err := parseInts(string(val[:b]), 6)
+	if err != nil {
+		return 0, 0, 0, fmt.Errorf("vti: WholeExtent %q: %v", val[:b], err)
+	}
+	nx, ny, nz = ext[1]-ext[0], ext[3]-ext[2], ext[5]-ext[4]
+	if !dimsOK(nx, ny, nz) {
+		return 0, 0, 0, fmt.Errorf("vti: WholeExtent %q: each axis must hold ≥ 1 cell and the total at most %d", val[:b], int64(MaxVoxels))
+	}
+	return nx, ny, nz, nil
 }

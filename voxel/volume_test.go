@@ -297,3 +297,59 @@ func TestHugeShapes(t *testing.T) {
 		t.Error("huge extent accepted")
 	}
 }
+
+func TestASCIIValueOutsideType(t *testing.T) {
+	// A value that does not fit the declared type is refused, not wrapped
+	// onto another label (300 would become 44 in a byte).
+	for _, v := range []string{"300", "-1", "256"} {
+		doc := `<VTKFile type="ImageData"><ImageData WholeExtent="0 2 0 1 0 1"><Piece Extent="0 2 0 1 0 1"><CellData>
+<DataArray type="UInt8" Name="phase" format="ascii">1 ` + v + `</DataArray></CellData></Piece></ImageData></VTKFile>`
+		_, err := ReadVTI(strings.NewReader(doc))
+		if err == nil || !strings.Contains(err.Error(), "does not fit") {
+			t.Errorf("UInt8 value %s: error %v; want a refusal", v, err)
+		}
+	}
+	doc := `<VTKFile type="ImageData"><ImageData WholeExtent="0 2 0 1 0 1"><Piece Extent="0 2 0 1 0 1"><CellData>
+<DataArray type="Int16" Name="phase" format="ascii">1 101</DataArray></CellData></Piece></ImageData></VTKFile>`
+	if g, err := ReadVTI(strings.NewReader(doc)); err != nil || g.Phase[1] != 101 {
+		t.Errorf("Int16 ascii: %v", err)
+	}
+}
+
+func TestTruncatedNPYCount(t *testing.T) {
+	// The message counts the values actually present.
+	data := npyFile("<u2", false, "(2, 3, 4)", make([]byte, 2*7+1))
+	_, _, _, _, err := ReadNPY(bytes.NewReader(data))
+	if err == nil || !strings.Contains(err.Error(), "after 7 of the 24 values") {
+		t.Errorf("error %v; want it to count 7 of 24 values", err)
+	}
+}
+
+func TestStatVolume(t *testing.T) {
+	dir := filepath.Join("..", "testdata", "volumes")
+	for _, name := range []string{"gelspace-12.vti", "vtk-ascii.vti", "vtk-appended-raw.vti", "gelspace-12.npy", "numpy-fortran-be-i8.npy"} {
+		nx, ny, nz, err := StatVolume(filepath.Join(dir, name))
+		if err != nil || nx != 12 || ny != 12 || nz != 12 {
+			t.Errorf("%s: %d×%d×%d, %v; want 12³", name, nx, ny, nz, err)
+		}
+	}
+	tmp := t.TempDir()
+	// A header that claims far more data than the file holds.
+	short := filepath.Join(tmp, "short.npy")
+	os.WriteFile(short, npyFile("|u1", false, "(1024, 1024, 1024)", []byte{1, 2, 3}), 0o644)
+	if _, _, _, err := StatVolume(short); err == nil || !strings.Contains(err.Error(), "declares") {
+		t.Errorf("short npy: %v; want a refusal naming what the header declares", err)
+	}
+	// A device is not a volume file.
+	if _, err := os.Stat("/dev/zero"); err == nil {
+		dev := filepath.Join(tmp, "zero.vti")
+		if os.Symlink("/dev/zero", dev) == nil {
+			if _, err := ReadVolume(dev); err == nil || !strings.Contains(err.Error(), "not a regular file") {
+				t.Errorf("/dev/zero as a volume: %v", err)
+			}
+			if _, _, _, err := StatVolume(dev); err == nil {
+				t.Error("/dev/zero stat accepted")
+			}
+		}
+	}
+}

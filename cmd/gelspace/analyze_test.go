@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"gelspace/kinetics"
 	"gelspace/voxel"
 )
 
@@ -32,18 +33,18 @@ func TestAnalyzeNumPyFromPython(t *testing.T) {
 	labels := map[uint8]bool{}
 	for _, p := range phase {
 		labels[p] = true
-		if p < 10 {
+		if kinetics.IsPore(p) {
 			pores++
 		}
 	}
-	// Map every label: pores 0–9 to pore, C-S-H to csh, the rest to solid.
+	// Map every label: pores to pore, C-S-H to csh, the rest to solid.
 	var parts []string
 	for l := range labels {
 		class := "solid"
 		switch {
-		case l < 10:
+		case kinetics.IsPore(l):
 			class = "pore"
-		case l == 30 || l == 31:
+		case l == kinetics.CSHInner || l == kinetics.CSHOuter:
 			class = "csh"
 		}
 		parts = append(parts, strconv.Itoa(int(l))+"="+class)

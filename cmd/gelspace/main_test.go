@@ -229,7 +229,7 @@ func checkPackOutput(t *testing.T, dir string, n int) {
 		t.Fatalf("phases.csv has %d lines", lines)
 	}
 	c := kinetics.Lookup(kinetics.C3S).Colour
-	row := fmt.Sprintf("\n10,c3s,\"C3S\",clinker,3.15,#%02x%02x%02x,", c.R, c.G, c.B)
+	row := fmt.Sprintf("\n%d,c3s,\"C3S\",clinker,3.15,#%02x%02x%02x,", kinetics.C3S, c.R, c.G, c.B)
 	if !strings.HasPrefix(string(csv), "id,key,name,role,density_g_per_cm3,colour,grey\n") || !strings.Contains(string(csv), row) {
 		t.Fatalf("phases.csv lacks %q: %q", row, csv)
 	}
