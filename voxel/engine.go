@@ -47,6 +47,7 @@ type Engine struct {
 	arrT    float64
 	arrD    []float64
 	arrNuc  float64
+	delta0  float64 // δ0 of the through-product law at arrT, µm
 	rates   []float64
 	rxIndex map[string]int
 	// walkSteps and spawnSteps are the walk lengths in steps of this voxel

@@ -55,6 +55,7 @@ func (e *Engine) computeRates() float64 {
 			e.arrD[d] = kinetics.Arrhenius(e.ea[d], tC)
 		}
 		e.arrNuc = kinetics.Arrhenius(e.p.NucleationEaKJPerMol, tC)
+		e.delta0 = e.p.ProductLengthAt(tC)
 		e.arrT = tC
 	}
 	water := float64(e.s.Count[kinetics.Water])
@@ -221,7 +222,7 @@ func (e *Engine) classWeight(d, c int, weighted bool) float64 {
 func (e *Engine) accept(i, d int) bool {
 	c := int(e.cls[i]) % classesPerPhase
 	h := float64(triH[c])
-	if h == 0 || e.p.ProductLengthUM <= 0 {
+	if h == 0 || e.delta0 <= 0 {
 		return true
 	}
 	w := float64(triW[c])
@@ -229,7 +230,7 @@ func (e *Engine) accept(i, d int) bool {
 	if p := e.g.Particle[i]; p > 0 && int(p) < len(e.partInit) && e.partInit[p] > 0 {
 		r0 := math.Cbrt(3 * float64(e.partInit[p]) / (4 * math.Pi))
 		depth := r0 * (1 - math.Cbrt(float64(e.s.PartLeft[p])/float64(e.partInit[p]))) * e.g.VoxelUM
-		f = 1 / (1 + depth/e.p.ProductLengthUM)
+		f = 1 / (1 + depth/e.delta0)
 	}
 	bound := w + e.beta[d]*h
 	return e.r.Float64()*bound < w+e.beta[d]*f*h
