@@ -137,7 +137,11 @@ func DefaultParams() Params {
 			{Phase: Gypsum, VelocityUMPerH: 5, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: Hemihydrate, VelocityUMPerH: 10, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: Anhydrite, VelocityUMPerH: 2, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+			// Co-reactants only (velocity 0): drawn from exposed voxels when
+			// an aluminate reaction calls for them.
 			{Phase: AFt, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: Calcite, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
+			{Phase: CH, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 		},
 		SilicateSaturation:      0.001,
 		CSHNucleationPerUM2H:    0.00006,
@@ -165,6 +169,10 @@ func DefaultParams() Params {
 				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, Calcite: 0.03, Inert: 0.03}},
 			{Product: AFm, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, AFt: 0.5, AFm: 0.5,
 				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, Calcite: 0.03, Inert: 0.03}},
+			{Product: Monocarbonate, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, AFt: 0.5, Monocarbonate: 0.5, Hemicarbonate: 0.5, Calcite: 0.5,
+				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, Inert: 0.03}},
+			{Product: Hemicarbonate, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, AFt: 0.5, Monocarbonate: 0.5, Hemicarbonate: 0.5, Calcite: 0.5,
+				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, Inert: 0.03}},
 			{Product: Hydrogarnet, On: map[ID]float64{C3A: 0.5, C4AF: 0.5, Hydrogarnet: 0.5,
 				C3S: 0.03, C2S: 0.03, CSHInner: 0.03, CSHOuter: 0.03, CH: 0.03, AFt: 0.03, AFm: 0.03}},
 			{Product: FH3, On: map[ID]float64{C4AF: 0.5, FH3: 0.5,

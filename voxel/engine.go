@@ -29,8 +29,9 @@ type Engine struct {
 	beta     []float64
 	sulfFac  []float64
 	ea       []float64
-	rxOfD    []int // reaction index for phases with one reaction, −1 otherwise
-	cls      []uint8
+	rxOfD    []int                  // reaction index for phases with one reaction, −1 otherwise
+	seq      [kinetics.NumIDs][]int // reaction indices of kinetics.Sequence, by primary phase
+	cls      []uint16               // class of each voxel, d*classesPerPhase + exposure, or noClass
 	slot     []int32
 	sets     [][]int32 // d*classesPerPhase + exposure class → members
 	sumW     []int     // per d: Σ faces touching water
@@ -66,26 +67,28 @@ type state struct {
 	Pending    bool
 	NextS      float64
 	HeatJ      float64
-	WaterMol   float64                  // water consumed by reactions
-	ShrinkVox  float64                  // chemical shrinkage so far, voxels
-	ShrinkAcc  float64                  // sealed: shrinkage not yet emptied, voxels
-	PoolSO4Mol float64                  // dissolved sulfate, as mol of gypsum
-	PoolAFtMol float64                  // dissolved ettringite awaiting conversion
-	Free       [kinetics.NumIDs][]int32 // positions of dissolved units
-	Fails      [kinetics.NumIDs][]uint8 // failed attempts of each unit
-	Acc        [][]float64              // per reaction, per product term: fractional voxels
-	Spawned    [][]int                  // per reaction, per product term: units made
-	RxVoxels   []int                    // per reaction: primary voxels reacted
-	Count      [kinetics.NumIDs]int
-	Initial    [kinetics.NumIDs]int
-	Reacted    [kinetics.NumIDs]int // voxels of each phase consumed
-	PartLeft   []int32              // anhydrous voxels left in each grain
-	Events     uint64
-	Steps      uint64
-	EmptyList  []int32
-	EmptyPos   int
-	WaterOut   bool // sealed: shrinkage could not be emptied (no water left)
-	RNG        []byte
+	WaterMol   float64 // water consumed by reactions
+	ShrinkVox  float64 // chemical shrinkage so far, voxels
+	ShrinkAcc  float64 // sealed: shrinkage not yet emptied, voxels
+	PoolSO4Mol float64 // dissolved sulfate, as mol of gypsum
+	// CoPool holds, per phase, co-reactant drawn from exposed voxels and
+	// not yet used (ettringite, calcite, CH), mol.
+	CoPool    [kinetics.NumIDs]float64
+	Free      [kinetics.NumIDs][]int32 // positions of dissolved units
+	Fails     [kinetics.NumIDs][]uint8 // failed attempts of each unit
+	Acc       [][]float64              // per reaction, per product term: fractional voxels
+	Spawned   [][]int                  // per reaction, per product term: units made
+	RxVoxels  []int                    // per reaction: primary voxels reacted
+	Count     [kinetics.NumIDs]int
+	Initial   [kinetics.NumIDs]int
+	Reacted   [kinetics.NumIDs]int // voxels of each phase consumed
+	PartLeft  []int32              // anhydrous voxels left in each grain
+	Events    uint64
+	Steps     uint64
+	EmptyList []int32
+	EmptyPos  int
+	WaterOut  bool // sealed: shrinkage could not be emptied (no water left)
+	RNG       []byte
 }
 
 // maxFails is the number of failed precipitation attempts after which a
@@ -103,7 +106,7 @@ type stickRule struct {
 
 const (
 	classesPerPhase = 28
-	noClass         = 255
+	noClass         = 0xffff
 )
 
 // triIdx maps (faces to water, faces to C-S-H) with sum ≤ 6 to 0–27;
@@ -150,6 +153,11 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	for i := range e.dOf {
 		e.dOf[i] = -1
 	}
+	for id := range e.seq {
+		for _, key := range kinetics.Sequence(kinetics.ID(id)) {
+			e.seq[id] = append(e.seq[id], e.rxIndex[key])
+		}
+	}
 	for _, d := range e.p.Dissolve {
 		e.dOf[d.Phase] = int8(len(e.dph))
 		e.dph = append(e.dph, d.Phase)
@@ -175,7 +183,10 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 		e.rxOfD = append(e.rxOfD, rx)
 	}
-	for _, id := range []kinetics.ID{kinetics.Gypsum, kinetics.AFt} {
+	if len(e.dph)*classesPerPhase >= noClass {
+		return nil, fmt.Errorf("voxel: %d dissolving phases in the kinetics table: at most %d", len(e.dph), (noClass-1)/classesPerPhase)
+	}
+	for _, id := range []kinetics.ID{kinetics.Gypsum} {
 		if e.dOf[id] < 0 {
 			return nil, fmt.Errorf("voxel: the kinetics table must give a dissolution law for %s", kinetics.Lookup(id).Key)
 		}
@@ -260,7 +271,7 @@ func (e *Engine) setCementMass() {
 // scanning in index order (deterministic).
 func (e *Engine) buildClasses() {
 	n := e.g.Len()
-	e.cls = make([]uint8, n)
+	e.cls = make([]uint16, n)
 	e.slot = make([]int32, n)
 	e.sets = make([][]int32, len(e.dph)*classesPerPhase)
 	e.sumW = make([]int, len(e.dph))
@@ -299,12 +310,12 @@ func (e *Engine) exposure(i int) (w, h int) {
 // reclassify moves voxel i to the class its phase and exposure call for.
 func (e *Engine) reclassify(i int) {
 	d := e.dOf[e.g.Phase[i]]
-	want := uint8(noClass)
+	want := uint16(noClass)
 	var w, h int
 	if d >= 0 {
 		w, h = e.exposure(i)
 		if w+h > 0 {
-			want = uint8(int(d)*classesPerPhase + int(triIdx[w][h]))
+			want = uint16(int(d)*classesPerPhase + int(triIdx[w][h]))
 		}
 	}
 	old := e.cls[i]

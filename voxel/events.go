@@ -77,8 +77,6 @@ func (e *Engine) computeRates() float64 {
 			} else {
 				r *= math.Max(0, 1-e.s.PoolSO4Mol/poolSat)
 			}
-		case kinetics.AFt:
-			r = 0 // dissolves only as a co-reactant, when called for
 		}
 		e.rates[d] = r
 		total += r
@@ -240,10 +238,10 @@ func (e *Engine) accept(i, d int) bool {
 func (e *Engine) dissolve(i int) {
 	id := e.g.Phase[i]
 	d := e.dOf[id]
-	switch id {
-	case kinetics.C3A, kinetics.C4AF:
-		e.dissolveAluminate(i, id)
-	case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
+	switch {
+	case e.seq[id] != nil:
+		e.dissolveInSequence(i, id)
+	case kinetics.Lookup(id).Role == kinetics.RoleSulfate:
 		e.dissolveSulfate(i)
 	default:
 		if rx := e.rxOfD[d]; rx >= 0 {
@@ -252,26 +250,34 @@ func (e *Engine) dissolve(i int) {
 	}
 }
 
-// dissolveAluminate picks the aluminate reaction the solution allows:
-// ettringite while sulfate lasts, monosulfate from ettringite after, and
-// hydrogarnet when neither is left.
-func (e *Engine) dissolveAluminate(i int, id kinetics.ID) {
-	aft, afm, hg := kinetics.RxC3AAFt, kinetics.RxC3AAFm, kinetics.RxC3AHG
-	if id == kinetics.C4AF {
-		aft, afm, hg = kinetics.RxC4AFAFt, kinetics.RxC4AFAFm, kinetics.RxC4AFHG
-	}
+// dissolveInSequence runs the first reaction of the phase's sequence
+// (kinetics.Sequence) whose co-reactants the solution can supply: for the
+// aluminates, ettringite while sulfate lasts, carboaluminates while calcite
+// lasts, monosulfate from ettringite, hydrogarnet when nothing else is left.
+func (e *Engine) dissolveInSequence(i int, id kinetics.ID) {
 	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
-	rAFt := &kinetics.Reactions()[e.rxIndex[aft]]
-	if e.takeSulfate(molVox * rAFt.Co[0].Mol / rAFt.PrimaryMol) {
-		e.react(i, e.rxIndex[aft])
+	rxs := kinetics.Reactions()
+	seq := e.seq[id]
+	for k, rx := range seq {
+		r := &rxs[rx]
+		ok := true
+		for _, c := range r.Co {
+			if !e.ensure(c.Phase, c.Mol*molVox/r.PrimaryMol) {
+				ok = false
+				break
+			}
+		}
+		if !ok && k < len(seq)-1 {
+			continue
+		}
+		if ok {
+			for _, c := range r.Co {
+				e.withdraw(c.Phase, c.Mol*molVox/r.PrimaryMol)
+			}
+		}
+		e.react(i, rx)
 		return
 	}
-	rAFm := &kinetics.Reactions()[e.rxIndex[afm]]
-	if e.takeAFt(molVox * rAFm.Co[0].Mol / rAFm.PrimaryMol) {
-		e.react(i, e.rxIndex[afm])
-		return
-	}
-	e.react(i, e.rxIndex[hg])
 }
 
 // react turns voxel i into pore water and the products of reaction rx into
@@ -337,44 +343,54 @@ func (e *Engine) leave(i int) {
 	}
 }
 
-// takeSulfate draws mol of dissolved gypsum from the pool, dissolving
-// exposed sulfate voxels as needed. It reports false, leaving the pool as
-// it is, when the exposed sulfate cannot cover it.
-func (e *Engine) takeSulfate(mol float64) bool {
-	for e.s.PoolSO4Mol < mol {
-		i := -1
-		for _, id := range []kinetics.ID{kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite} {
-			if d := e.dOf[id]; d >= 0 {
-				if i = e.pickSurface(int(d), false); i >= 0 {
-					break
+// ensure makes the solution hold at least mol of co-reactant phase id,
+// dissolving exposed voxels of it as needed (sulfate carriers into the
+// sulfate pool; ettringite, calcite and CH into their co-reactant pools).
+// It reports false when the exposed solid cannot cover it; what was
+// dissolved stays in the pool.
+func (e *Engine) ensure(id kinetics.ID, mol float64) bool {
+	if id == kinetics.Gypsum {
+		for e.s.PoolSO4Mol < mol {
+			i := -1
+			for _, sid := range []kinetics.ID{kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite} {
+				if d := e.dOf[sid]; d >= 0 {
+					if i = e.pickSurface(int(d), false); i >= 0 {
+						break
+					}
 				}
 			}
+			if i < 0 {
+				return false
+			}
+			e.dissolveSulfate(i)
 		}
-		if i < 0 {
+		return true
+	}
+	d := int(e.dOf[id])
+	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
+	for e.s.CoPool[id] < mol {
+		if d < 0 {
 			return false
 		}
-		e.dissolveSulfate(i)
-	}
-	e.s.PoolSO4Mol -= mol
-	return true
-}
-
-// takeAFt draws mol of ettringite from its pool, dissolving exposed
-// ettringite voxels as needed; it is called once no exposed sulfate is left.
-func (e *Engine) takeAFt(mol float64) bool {
-	d := int(e.dOf[kinetics.AFt])
-	molVox := e.voxCM3 / kinetics.Lookup(kinetics.AFt).MolarVolumeCM3()
-	for e.s.PoolAFtMol < mol {
 		i := e.pickSurface(d, false)
 		if i < 0 {
 			return false
 		}
-		e.s.PoolAFtMol += molVox
-		e.s.Reacted[kinetics.AFt]++
+		e.s.CoPool[id] += molVox
+		e.s.Reacted[id]++
+		e.leave(i)
 		e.setPhase(i, kinetics.Water)
 	}
-	e.s.PoolAFtMol -= mol
 	return true
+}
+
+// withdraw takes mol of co-reactant id from its pool (after ensure).
+func (e *Engine) withdraw(id kinetics.ID, mol float64) {
+	if id == kinetics.Gypsum {
+		e.s.PoolSO4Mol -= mol
+		return
+	}
+	e.s.CoPool[id] -= mol
 }
 
 // walk moves a dissolved unit of product q from pos through pore water for

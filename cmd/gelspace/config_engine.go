@@ -95,7 +95,7 @@ func (k *KineticsConfig) Params() (kinetics.Params, error) {
 		if ph != nil {
 			d = p.DissolutionOf(ph.ID)
 		}
-		if d == nil || ph.ID == kinetics.AFt {
+		if d == nil || d.VelocityUMPerH == 0 { // co-reactants (ettringite, calcite, CH) have no law of their own
 			return p, fmt.Errorf("kinetics.phase.%s: not a dissolving phase (allowed: c3s, c2s, c3a, c4af, gypsum, hemihydrate, anhydrite)", key)
 		}
 		o := k.Phase[key]
