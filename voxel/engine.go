@@ -20,7 +20,7 @@ type Engine struct {
 	sealed  bool
 
 	voxCM3  float64 // voxel volume, cm³
-	cementG float64 // mass of clinker and sulfate in the box at the start, g
+	cementG float64 // mass of the whole cement (clinker, sulfate, fillers) in the box at the start, g
 
 	// Dissolving phases, by index d.
 	dph      []kinetics.ID
@@ -256,12 +256,16 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	return e, nil
 }
 
-// setCementMass computes the mass of clinker and sulfate at the start.
+// setCementMass computes the mass of the cement as tested at the start:
+// every anhydrous powder phase — clinker, sulfate carrier, limestone and
+// other fillers — as isothermal calorimetry reports heat per gram of the
+// cement as tested (ASTM C1702, common practice). Heat, shrinkage and
+// water are per gram of this mass.
 func (e *Engine) setCementMass() {
 	e.cementG = 0
 	for i := range kinetics.Phases() {
 		ph := &kinetics.Phases()[i]
-		if ph.Role == kinetics.RoleClinker || ph.Role == kinetics.RoleSulfate {
+		if kinetics.IsAnhydrous(ph.ID) {
 			e.cementG += float64(e.s.Initial[ph.ID]) * ph.DensityGPerCM3 * e.voxCM3
 		}
 	}
@@ -369,10 +373,12 @@ func (e *Engine) TimeH() float64 { return e.s.TimeS / 3600 }
 // TempC returns the paste temperature now.
 func (e *Engine) TempC() float64 { return e.thermal.At(e.TimeH(), e.HeatJPerG()) }
 
-// HeatJPerG returns the heat released per gram of cement.
+// HeatJPerG returns the heat released per gram of cement as tested
+// (clinker, sulfate and fillers).
 func (e *Engine) HeatJPerG() float64 { return e.s.HeatJ / e.cementG }
 
-// CementG returns the mass of cement (clinker and sulfate) in the box, g.
+// CementG returns the mass of cement as tested (clinker, sulfate, fillers)
+// in the box at the start, g.
 func (e *Engine) CementG() float64 { return e.cementG }
 
 // Grid returns the lattice (owned by the engine; read only).

@@ -123,10 +123,11 @@ func TestStoichiometry(t *testing.T) {
 	}
 }
 
-// TestArrhenius: with one activation energy for every rate, the time to
-// α = 0.3 at 35 °C against 20 °C is exp(Ea/R (1/293.15 − 1/308.15)) (the
-// Arrhenius law; activation energy 40 kJ/mol, within the 40–45 of ASTM
-// C1074 guidance, REFERENCES.md, memory). Tolerance 15 %.
+// TestArrhenius: the time to α = 0.3 at 35 °C against 20 °C gives an
+// apparent activation energy within 35–50 kJ/mol, though the phases have
+// their own activation energies and the product barrier its own
+// temperature law (ASTM C1074 guidance 40–45 kJ/mol for a general-use
+// cement, from memory; the band is the issue's).
 func TestArrhenius(t *testing.T) {
 	timeTo := func(tempC float64) float64 {
 		e := newTestEngine(t, enginePaste(t, 40, 1, 0.5, 14), tempC, false, 8)
@@ -144,9 +145,9 @@ func TestArrhenius(t *testing.T) {
 		return 0
 	}
 	t20, t35 := timeTo(20), timeTo(35)
-	want := math.Exp(40e3 / kinetics.GasConstant * (1/293.15 - 1/308.15))
-	if got := t20 / t35; math.Abs(got/want-1) > 0.15 {
-		t.Errorf("t(20 °C)/t(35 °C) = %.3f (%.2f h / %.2f h), Arrhenius %.3f", got, t20, t35, want)
+	ea := kinetics.GasConstant * math.Log(t20/t35) / (1/293.15 - 1/308.15) / 1000
+	if ea < 35 || ea > 50 {
+		t.Errorf("t(20 °C)/t(35 °C) = %.2f h / %.2f h: apparent activation energy %.1f kJ/mol, want 35–50", t20, t35, ea)
 	}
 }
 
