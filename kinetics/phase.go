@@ -78,7 +78,7 @@ const NumIDs = 256
 
 // Phase describes one phase. Densities and molar masses are from Taylor,
 // Cement Chemistry (1997) and Balonis & Glasser, Cem. Concr. Res. 39 (2009)
-// 733, as collected in REFERENCES.md (recalled, not re-read).
+// 733 (recalled, not re-read).
 type Phase struct {
 	ID   ID
 	Key  string // config and column key: "c3s", "csh_inner"
@@ -151,7 +151,7 @@ var phases = []Phase{
 		Colour: color.RGBA{0x71, 0x22, 0xa1, 0xff}},
 
 	// C-S-H as C1.7SH4 (saturated, gel water included); D-dry C1.7SH1.4.
-	// REFERENCES.md gives ρ 2.12 g/cm³ and Vm ≈ 108 cm³/mol, which differ
+	// The recalled figures are ρ 2.12 g/cm³ and Vm ≈ 108 cm³/mol, which differ
 	// by their rounding (227.5/2.12 = 107.3); the density here, 2.106, keeps
 	// the tabled molar volume of 108 cm³/mol, which is what the volume
 	// stoichiometry uses.

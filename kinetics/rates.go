@@ -46,7 +46,7 @@ type Dissolution struct {
 // value is not useful; start from DefaultParams.
 //
 // Defaults were chosen so that the embedded demo cement at w/c 0.5, 20 °C,
-// saturated, lands inside the typical ranges of REFERENCES.md (degree of
+// saturated, lands inside the typical ranges of a general-use Portland cement (degree of
 // hydration at 1, 7 and 28 days, main heat peak within the first day).
 // They are a starting point: calibrate them to your own cement against an
 // isothermal calorimetry curve (gelspace fit).

@@ -13,7 +13,7 @@ type Term struct {
 // dissolved units that precipitate where the growth rules allow.
 //
 // Stoichiometries are the textbook forms (Taylor 1997; Mindess & Young)
-// listed in REFERENCES.md, recalled; each one balances by mass, which a test
+// recalled; each one balances by mass, which a test
 // checks with the phase table's molar masses.
 type Reaction struct {
 	Key        string

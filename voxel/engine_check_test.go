@@ -33,7 +33,7 @@ func runTo(t testing.TB, e *Engine, times []float64) []sample {
 var checkTimes = []float64{1, 2, 4, 8, 12, 24, 72, 168, 336, 672}
 
 // TestPowersVolumes holds the saturated paste against the Powers–Brownyard
-// volume relations (REFERENCES.md): capillary porosity
+// volume relations: capillary porosity
 // (w/c − 0.36 α)/(w/c + 0.32) (Mindess, Young & Darwin 2003 — partly
 // confirmed) within ±0.04; chemical shrinkage between 0.055 α and 0.08 α
 // mL/g (Powers gives 0.064 α, measured 0.06–0.07 mL/g at full hydration —
@@ -260,7 +260,7 @@ func TestReproducibleAndResume(t *testing.T) {
 // TestResolutionLong: rates are per unit surface area, so halving the voxel
 // edge should change α(t) little. The same 60 µm box of the demo paste at
 // 1 µm (60³) and 0.5 µm (120³) voxels: α within 0.05 at 1, 7 and 28 days
-// (the band; DESIGN.md behaviour 6). Long opt-in set.
+// (the band: rates are per unit area). Long opt-in set.
 func TestResolutionLong(t *testing.T) {
 	if os.Getenv("GELSPACE_LONG") == "" {
 		t.Skip("long validation study; set GELSPACE_LONG=1")
