@@ -130,7 +130,7 @@ func DefaultParams() Params {
 	ea := 40.0
 	return Params{
 		Dissolve: []Dissolution{
-			{Phase: C3S, VelocityUMPerH: 0.04, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: 41.8},
+			{Phase: C3S, VelocityUMPerH: 0.033, ThroughProduct: 0.18, SulfateFactor: 1, EaKJPerMol: 41.8},
 			{Phase: C2S, VelocityUMPerH: 0.003, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: 43.4},
 			{Phase: C3A, VelocityUMPerH: 0.05, ThroughProduct: 0.1, SulfateFactor: 0.3, EaKJPerMol: 54.0},
 			{Phase: C4AF, VelocityUMPerH: 0.025, ThroughProduct: 0.05, SulfateFactor: 0.4, EaKJPerMol: 34.1},
@@ -143,15 +143,15 @@ func DefaultParams() Params {
 			{Phase: Calcite, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 			{Phase: CH, VelocityUMPerH: 0, ThroughProduct: 0.5, SulfateFactor: 1, EaKJPerMol: ea},
 		},
-		SilicateSaturation:      0.001,
+		SilicateSaturation:      0.0015,
 		CSHNucleationPerUM2H:    0.00006,
 		CHSaturation:            0.004,
 		CHNucleationPerUM3H:     1e-5,
 		GypsumSolubilityMolPerL: 0.015, // about 2.4 g/L CaSO4·2H2O at 20 °C (common practice)
-		SulfateSupplyLengthUM:   0.05,
+		SulfateSupplyLengthUM:   0.3,
 		WaterHalfPorosity:       0.15,
 		WaterExponent:           4,
-		SulfateHalf:             0.3,
+		SulfateHalf:             1.5,
 		SulfateHill:             3,
 		AttemptPerH:             6,
 		WalkSteps:               250,

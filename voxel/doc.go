@@ -74,18 +74,18 @@
 // exp(−Ea_i/R (1/T − 1/293.15)) the Arrhenius factor of phase i):
 //
 //	dissolution of a surface voxel   k = v/h · (n_w + β·f·n_p) · g · A_i(T) · F_w     [1/s]
-//	  v   surface recession velocity, µm/h   (C3S 0.04, C2S 0.003, C3A 0.05, C4AF 0.025,
+//	  v   surface recession velocity, µm/h   (C3S 0.033, C2S 0.003, C3A 0.05, C4AF 0.025,
 //	                                          gypsum 5, hemihydrate 10, anhydrite 2;
 //	                                          ettringite, calcite, CH 0: co-reactants only)
 //	  Ea  kJ/mol                              (C3S 41.8, C2S 43.4, C3A 54.0, C4AF 34.1,
 //	                                          sulfates, nucleation, precipitation 40)
 //	  h   voxel edge, µm; n_w, n_p faces touching water, any hydrate
-//	  β   through-product factor (C3S, C2S 0.15; C3A 0.1; C4AF 0.05; sulfates 0.5)
+//	  β   through-product factor (C3S 0.18, C2S 0.15; C3A 0.1; C4AF 0.05; sulfates 0.5)
 //	  f   1/(1 + δ/δ0(T)), δ the depth (µm) to which the voxel's grain has reacted,
 //	      δ0(T) = 0.6 µm · exp(−(T − 20 °C)/10 K)
-//	  g   silicates: 1 − c/c_sat (c_sat 0.001 voxels of dissolved C-S-H per voxel of water);
-//	      C3A, C4AF: f_S + (1 − f_S)/(1 + (σ/0.3)³), f_S 0.3 and 0.4,
-//	        σ = (n_pool + 0.05 µm · A_s · ρ_s)/(c_gyp · V_w), A_s the exposed sulfate
+//	  g   silicates: 1 − c/c_sat (c_sat 0.0015 voxels of dissolved C-S-H per voxel of water);
+//	      C3A, C4AF: f_S + (1 − f_S)/(1 + (σ/1.5)³), f_S 0.3 and 0.4,
+//	        σ = (n_pool + 0.3 µm · A_s · ρ_s)/(c_gyp · V_w), A_s the exposed sulfate
 //	        area (µm², product faces weighted by β), ρ_s its mol/µm³, V_w the pore water;
 //	      sulfates: 1 − pool/solubility (gypsum c_gyp 0.015 mol/L)
 //	  F_w φ_w⁴/(φ_w⁴ + 0.15⁴), φ_w the water-filled pore voxels over all voxels
