@@ -26,13 +26,19 @@ type Kinetics struct {
 	// (capped at 1).
 	ThroughProductScale float64 `toml:"through_product_scale"`
 
-	SilicateSaturation   *float64 `toml:"silicate_saturation"`
-	CSHNucleationPerUM2H *float64 `toml:"csh_nucleation_per_um2_h"`
-	CHSaturation         *float64 `toml:"ch_saturation"`
-	CHNucleationPerUM3H  *float64 `toml:"ch_nucleation_per_um3_h"`
-	AttemptPerH          *float64 `toml:"attempt_per_h"`
-	ProductLengthUM      *float64 `toml:"product_length_um"`
-	NucleationEaKJPerMol *float64 `toml:"nucleation_ea_kj_per_mol"`
+	SilicateSaturation    *float64 `toml:"silicate_saturation"`
+	CSHNucleationPerUM2H  *float64 `toml:"csh_nucleation_per_um2_h"`
+	CHSaturation          *float64 `toml:"ch_saturation"`
+	CHNucleationPerUM3H   *float64 `toml:"ch_nucleation_per_um3_h"`
+	AttemptPerH           *float64 `toml:"attempt_per_h"`
+	ProductLengthUM       *float64 `toml:"product_length_um"`
+	NucleationEaKJPerMol  *float64 `toml:"nucleation_ea_kj_per_mol"`
+	ProductDensifyK       *float64 `toml:"product_densify_k"`
+	SulfateSupplyLengthUM *float64 `toml:"sulfate_supply_length_um"`
+	SulfateHalf           *float64 `toml:"sulfate_half"`
+	SulfateHill           *float64 `toml:"sulfate_hill"`
+	WaterHalfPorosity     *float64 `toml:"water_half_porosity"`
+	WaterExponent         *float64 `toml:"water_exponent"`
 
 	// Phase holds per-phase dissolution laws by phase key (c3s, c2s, c3a,
 	// c4af, gypsum, hemihydrate, anhydrite).
@@ -72,6 +78,12 @@ func (k *Kinetics) Params() (kinetics.Params, error) {
 	set(&p.AttemptPerH, k.AttemptPerH)
 	set(&p.ProductLengthUM, k.ProductLengthUM)
 	set(&p.NucleationEaKJPerMol, k.NucleationEaKJPerMol)
+	set(&p.ProductDensifyK, k.ProductDensifyK)
+	set(&p.SulfateSupplyLengthUM, k.SulfateSupplyLengthUM)
+	set(&p.SulfateHalf, k.SulfateHalf)
+	set(&p.SulfateHill, k.SulfateHill)
+	set(&p.WaterHalfPorosity, k.WaterHalfPorosity)
+	set(&p.WaterExponent, k.WaterExponent)
 	keys := make([]string, 0, len(k.Phase))
 	for key := range k.Phase {
 		keys = append(keys, key)
@@ -83,7 +95,7 @@ func (k *Kinetics) Params() (kinetics.Params, error) {
 		if ph != nil {
 			d = p.DissolutionOf(ph.ID)
 		}
-		if d == nil || ph.ID == kinetics.AFt {
+		if d == nil || d.VelocityUMPerH == 0 { // co-reactants (ettringite, calcite, CH) have no law of their own
 			return p, fmt.Errorf("kinetics.phase.%s: not a dissolving phase (allowed: c3s, c2s, c3a, c4af, gypsum, hemihydrate, anhydrite)", key)
 		}
 		o := k.Phase[key]

@@ -72,7 +72,7 @@ type BoguePhases struct {
 const BogueAFLimit = 0.64
 
 // Bogue computes the potential phase composition from an oxide analysis by
-// the equations of ASTM C150, Annex A1 (REFERENCES.md), with C the total
+// the equations of ASTM C150, Annex A1, with C the total
 // CaO less free lime:
 //
 //	A/F ≥ 0.64:

@@ -129,7 +129,7 @@ func FromVolumeFractions(vol [NumIDs]float64) (*Composition, error) {
 //	φ = (1/ρc) / (1/ρc + (w/c)/ρw)
 //
 // with ρc the powder density and ρw = WaterDensity (Powers' fresh-paste
-// volumes; REFERENCES.md). It panics if wc is not positive.
+// volumes; Powers & Brownyard 1947, from memory). It panics if wc is not positive.
 func (c *Composition) SolidVolumeFraction(wc float64) float64 {
 	if !(wc > 0) {
 		panic(fmt.Sprintf("kinetics: SolidVolumeFraction: w/c %g must be > 0", wc))

@@ -6,8 +6,8 @@ import (
 	"gelspace/kinetics"
 )
 
-// The worked example of REFERENCES.md (Bogue, ASTM C150 Annex A1;
-// REFERENCES.md rounds to C3S 58.1, C2S 15.2, C3A 8.5, C4AF 8.8 — derived).
+// The worked example (Bogue, ASTM C150 Annex A1;
+// Published copies round to C3S 58.1, C2S 15.2, C3A 8.5, C4AF 8.8 — derived).
 func ExampleBogue() {
 	b, err := kinetics.Bogue(kinetics.Oxides{SiO2: 20.6, Al2O3: 5.07, Fe2O3: 2.90, CaO: 63.9, SO3: 2.53})
 	if err != nil {

@@ -7,7 +7,7 @@ import (
 )
 
 func TestBogueWorkedExample(t *testing.T) {
-	// Worked example of REFERENCES.md (Bogue, ASTM C150 Annex A1 —
+	// Worked example (Bogue, ASTM C150 Annex A1 —
 	// confirmed equations; the figures are computed with them, "derived"):
 	// SiO2 20.6, Al2O3 5.07, Fe2O3 2.90, CaO 63.9, SO3 2.53 →
 	// C3S 58.1, C2S 15.2, C3A 8.5, C4AF 8.8, to ±0.2 percentage points.
@@ -116,7 +116,7 @@ func TestCompositionFromOxides(t *testing.T) {
 }
 
 func TestFreshPasteVolumes(t *testing.T) {
-	// Common practice (REFERENCES.md; derived (1/3)/(1/3 + 0.5) = 0.40):
+	// Common practice (derived (1/3)/(1/3 + 0.5) = 0.40):
 	// at w/c 0.5 a cement of relative density 3.0 is about 40 % of the
 	// fresh paste by volume. Inert filler is given density 3.0 here by
 	// mixing phases: build a powder whose density is exactly 3.0.

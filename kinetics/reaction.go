@@ -13,7 +13,7 @@ type Term struct {
 // dissolved units that precipitate where the growth rules allow.
 //
 // Stoichiometries are the textbook forms (Taylor 1997; Mindess & Young)
-// listed in REFERENCES.md, recalled; each one balances by mass, which a test
+// recalled; each one balances by mass, which a test
 // checks with the phase table's molar masses.
 type Reaction struct {
 	Key        string
@@ -23,9 +23,24 @@ type Reaction struct {
 	Co         []Term  // solid co-reactants drawn from the solution pools
 	WaterMol   float64 // moles of H2O consumed per mole of reaction
 	Products   []Term
-	// HeatJPerG is the heat released per gram of Primary (Lerch & Bogue
-	// values as given by Taylor 1997, recalled; hemihydrate and anhydrite
-	// from their heats of conversion to gypsum, about 17 kJ/mol, recalled).
+	// HeatJPerG is the heat released per gram of Primary. Sources:
+	//   - C3S 517, C2S 262, C3A → AFt 1670, C3A → C3AH6 866, C4AF 418:
+	//     Lerch & Bogue values as given by Taylor, Cement Chemistry 1997
+	//     (from memory).
+	//   - AFt → AFm, 881 J/g of C3A: by Hess's law from the same table's
+	//     C3A → AFt (1670 J/g) and C3A + gypsum → monosulfate (1144 J/g):
+	//     3 × 1144 − 1670 = 2 × 881 (per gram of C3A), so the three heats
+	//     are consistent.
+	//   - C3A → monocarbonate 1157 J/g: from standard formation
+	//     enthalpies, ΔfH°(C4AC̄H10.7) = −8166.4 kJ/mol (measured by
+	//     solution calorimetry, Cem. Concr. Res. 2018, doi
+	//     10.1016/j.cemconres.2018.10.012), C3A −3588.6, calcite −1206.9,
+	//     liquid water −285.83 kJ/mol (compiled standard values): 312.5 kJ
+	//     per mol of C3A; the 0.3 H2O more of C4AC̄H11 is taken at the heat
+	//     of liquid water. Hemicarbonate is given the same heat per gram of
+	//     C3A (no figure read; an assumption).
+	//   - hemihydrate and anhydrite from their heats of conversion to
+	//     gypsum, about 17 kJ/mol (from memory).
 	HeatJPerG float64
 }
 
@@ -39,6 +54,9 @@ const (
 	RxC4AFAFt     = "c4af_aft"
 	RxC4AFAFm     = "c4af_afm"
 	RxC4AFHG      = "c4af_hydrogarnet"
+	RxC3AMc       = "c3a_monocarbonate"
+	RxC3AHc       = "c3a_hemicarbonate"
+	RxC4AFMc      = "c4af_monocarbonate"
 	RxHemihydrate = "hemihydrate"
 	RxAnhydrite   = "anhydrite"
 )
@@ -51,13 +69,19 @@ var reactions = []Reaction{
 	{Key: RxC3AAFt, Formula: "C3A + 3CS̄H2 + 26H → C6AS̄3H32", Primary: C3A, PrimaryMol: 1, Co: []Term{{Gypsum, 3}}, WaterMol: 26,
 		Products: []Term{{AFt, 1}}, HeatJPerG: 1670},
 	{Key: RxC3AAFm, Formula: "2C3A + C6AS̄3H32 + 4H → 3C4AS̄H12", Primary: C3A, PrimaryMol: 2, Co: []Term{{AFt, 1}}, WaterMol: 4,
-		Products: []Term{{AFm, 3}}, HeatJPerG: 1144},
+		Products: []Term{{AFm, 3}}, HeatJPerG: 881},
+	{Key: RxC3AMc, Formula: "C3A + CC̄ + 11H → C4AC̄H11", Primary: C3A, PrimaryMol: 1, Co: []Term{{Calcite, 1}}, WaterMol: 11,
+		Products: []Term{{Monocarbonate, 1}}, HeatJPerG: 1157},
+	{Key: RxC3AHc, Formula: "C3A + 0.5CC̄ + 0.5CH + 11.5H → C4AC̄0.5H12", Primary: C3A, PrimaryMol: 1, Co: []Term{{Calcite, 0.5}, {CH, 0.5}}, WaterMol: 11.5,
+		Products: []Term{{Hemicarbonate, 1}}, HeatJPerG: 1157},
 	{Key: RxC3AHG, Formula: "C3A + 6H → C3AH6", Primary: C3A, PrimaryMol: 1, WaterMol: 6,
 		Products: []Term{{Hydrogarnet, 1}}, HeatJPerG: 866},
 	{Key: RxC4AFAFt, Formula: "C4AF + 3CS̄H2 + 30H → C6(A,F)S̄3H32 + CH + FH3", Primary: C4AF, PrimaryMol: 1, Co: []Term{{Gypsum, 3}}, WaterMol: 30,
 		Products: []Term{{AFt, 1}, {CH, 1}, {FH3, 1}}, HeatJPerG: 418},
 	{Key: RxC4AFAFm, Formula: "2C4AF + C6AS̄3H32 + 12H → 3C4AS̄H12 + 2CH + 2FH3", Primary: C4AF, PrimaryMol: 2, Co: []Term{{AFt, 1}}, WaterMol: 12,
 		Products: []Term{{AFm, 3}, {CH, 2}, {FH3, 2}}, HeatJPerG: 418},
+	{Key: RxC4AFMc, Formula: "C4AF + CC̄ + 15H → C4AC̄H11 + CH + FH3", Primary: C4AF, PrimaryMol: 1, Co: []Term{{Calcite, 1}}, WaterMol: 15,
+		Products: []Term{{Monocarbonate, 1}, {CH, 1}, {FH3, 1}}, HeatJPerG: 418},
 	{Key: RxC4AFHG, Formula: "C4AF + 10H → C3AH6 + CH + FH3", Primary: C4AF, PrimaryMol: 1, WaterMol: 10,
 		Products: []Term{{Hydrogarnet, 1}, {CH, 1}, {FH3, 1}}, HeatJPerG: 418},
 	{Key: RxHemihydrate, Formula: "CS̄H0.5 + 1.5H → CS̄H2 (dissolved)", Primary: Hemihydrate, PrimaryMol: 1, WaterMol: 1.5,
@@ -65,6 +89,23 @@ var reactions = []Reaction{
 	{Key: RxAnhydrite, Formula: "CS̄ + 2H → CS̄H2 (dissolved)", Primary: Anhydrite, PrimaryMol: 1, WaterMol: 2,
 		Products: []Term{{Gypsum, 1}}, HeatJPerG: 124},
 }
+
+// aluminateSequences lists, for each aluminate phase, its reactions in the
+// order the pore solution allows them: the first whose co-reactants the
+// solution can supply runs. Ettringite while sulfate lasts; then, with
+// calcite, the carboaluminates, which leave ettringite stable (Matschei,
+// Lothenbach & Glasser, Cem. Concr. Res. 37 (2007); Lothenbach et al.,
+// Cem. Concr. Res. 38 (2008), from memory) — monocarbonate, and
+// hemicarbonate where the calcite at hand covers only half; without
+// calcite, monosulfate from ettringite; hydrogarnet when neither is left.
+var aluminateSequences = map[ID][]string{
+	C3A:  {RxC3AAFt, RxC3AMc, RxC3AHc, RxC3AAFm, RxC3AHG},
+	C4AF: {RxC4AFAFt, RxC4AFMc, RxC4AFAFm, RxC4AFHG},
+}
+
+// Sequence returns the reactions of a phase in order of preference (see
+// aluminateSequences), or nil for a phase with one reaction.
+func Sequence(id ID) []string { return aluminateSequences[id] }
 
 // Reactions returns the reaction table. The slice is shared: do not modify.
 func Reactions() []Reaction { return reactions }

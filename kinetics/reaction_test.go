@@ -6,7 +6,7 @@ import (
 )
 
 // Each reaction must balance by mass with the phase table's molar masses
-// (REFERENCES.md reactions, textbook forms, from memory; the balance itself
+// (textbook forms, Taylor 1997 and Mindess & Young, from memory; the balance itself
 // is exact arithmetic, tolerance 0.1 % for rounding of the tabled masses).
 func TestReactionsBalanceByMass(t *testing.T) {
 	for _, r := range Reactions() {
@@ -26,7 +26,7 @@ func TestReactionsBalanceByMass(t *testing.T) {
 
 // C3S hydration: products occupy about twice the volume of the C3S reacted
 // (common practice: solid volume roughly doubles), and chemical shrinkage per
-// gram is near the 0.07 mL/g used in published modelling (REFERENCES.md,
+// gram is near the 0.07 mL/g used in published modelling (
 // confirmed as a modelling value; wide band).
 func TestC3SVolumes(t *testing.T) {
 	r := ReactionByKey(RxC3S)

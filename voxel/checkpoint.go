@@ -20,7 +20,7 @@ import (
 // run continues exactly where the saved one stood.
 const (
 	checkpointMagic   = "gelspace checkpoint\n"
-	checkpointVersion = 1
+	checkpointVersion = 2
 )
 
 type checkpointData struct {
@@ -143,7 +143,7 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 			if int(i) < 0 || int(i) >= nvox {
 				return nil, nil, bad("class member out of range")
 			}
-			e.cls[i] = uint8(c)
+			e.cls[i] = uint16(c)
 			e.slot[i] = int32(k)
 			e.sumW[c/classesPerPhase] += int(triW[c%classesPerPhase])
 			e.sumH[c/classesPerPhase] += int(triH[c%classesPerPhase])
@@ -163,7 +163,7 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 func (e *Engine) Clone() *Engine {
 	c := *e
 	c.g = e.g.Clone()
-	c.cls = append([]uint8(nil), e.cls...)
+	c.cls = append([]uint16(nil), e.cls...)
 	c.slot = append([]int32(nil), e.slot...)
 	c.sets = make([][]int32, len(e.sets))
 	for k, s := range e.sets {

@@ -20,7 +20,7 @@ type Engine struct {
 	sealed  bool
 
 	voxCM3  float64 // voxel volume, cm³
-	cementG float64 // mass of clinker and sulfate in the box at the start, g
+	cementG float64 // mass of the whole cement (clinker, sulfate, fillers) in the box at the start, g
 
 	// Dissolving phases, by index d.
 	dph      []kinetics.ID
@@ -29,12 +29,14 @@ type Engine struct {
 	beta     []float64
 	sulfFac  []float64
 	ea       []float64
-	rxOfD    []int // reaction index for phases with one reaction, −1 otherwise
-	cls      []uint8
+	rxOfD    []int                  // reaction index for phases with one reaction, −1 otherwise
+	seq      [kinetics.NumIDs][]int // reaction indices of kinetics.Sequence, by primary phase
+	cls      []uint16               // class of each voxel, d*classesPerPhase + exposure, or noClass
 	slot     []int32
 	sets     [][]int32 // d*classesPerPhase + exposure class → members
 	sumW     []int     // per d: Σ faces touching water
-	sumH     []int     // per d: Σ faces touching C-S-H
+	sumH     []int     // per d: Σ faces touching hydrate (product)
+	sulfMol  []float64 // per d: mol per µm³ for sulfate carriers, 0 otherwise
 	rules    [kinetics.NumIDs]*stickRule
 	anySolid stickRule     // rule for trapped units
 	products []kinetics.ID // products that travel as units, in event order
@@ -46,6 +48,7 @@ type Engine struct {
 	arrT    float64
 	arrD    []float64
 	arrNuc  float64
+	delta0  float64 // δ0 of the through-product law at arrT, µm
 	rates   []float64
 	rxIndex map[string]int
 	// walkSteps and spawnSteps are the walk lengths in steps of this voxel
@@ -64,26 +67,28 @@ type state struct {
 	Pending    bool
 	NextS      float64
 	HeatJ      float64
-	WaterMol   float64                  // water consumed by reactions
-	ShrinkVox  float64                  // chemical shrinkage so far, voxels
-	ShrinkAcc  float64                  // sealed: shrinkage not yet emptied, voxels
-	PoolSO4Mol float64                  // dissolved sulfate, as mol of gypsum
-	PoolAFtMol float64                  // dissolved ettringite awaiting conversion
-	Free       [kinetics.NumIDs][]int32 // positions of dissolved units
-	Fails      [kinetics.NumIDs][]uint8 // failed attempts of each unit
-	Acc        [][]float64              // per reaction, per product term: fractional voxels
-	Spawned    [][]int                  // per reaction, per product term: units made
-	RxVoxels   []int                    // per reaction: primary voxels reacted
-	Count      [kinetics.NumIDs]int
-	Initial    [kinetics.NumIDs]int
-	Reacted    [kinetics.NumIDs]int // voxels of each phase consumed
-	PartLeft   []int32              // anhydrous voxels left in each grain
-	Events     uint64
-	Steps      uint64
-	EmptyList  []int32
-	EmptyPos   int
-	WaterOut   bool // sealed: shrinkage could not be emptied (no water left)
-	RNG        []byte
+	WaterMol   float64 // water consumed by reactions
+	ShrinkVox  float64 // chemical shrinkage so far, voxels
+	ShrinkAcc  float64 // sealed: shrinkage not yet emptied, voxels
+	PoolSO4Mol float64 // dissolved sulfate, as mol of gypsum
+	// CoPool holds, per phase, co-reactant drawn from exposed voxels and
+	// not yet used (ettringite, calcite, CH), mol.
+	CoPool    [kinetics.NumIDs]float64
+	Free      [kinetics.NumIDs][]int32 // positions of dissolved units
+	Fails     [kinetics.NumIDs][]uint8 // failed attempts of each unit
+	Acc       [][]float64              // per reaction, per product term: fractional voxels
+	Spawned   [][]int                  // per reaction, per product term: units made
+	RxVoxels  []int                    // per reaction: primary voxels reacted
+	Count     [kinetics.NumIDs]int
+	Initial   [kinetics.NumIDs]int
+	Reacted   [kinetics.NumIDs]int // voxels of each phase consumed
+	PartLeft  []int32              // anhydrous voxels left in each grain
+	Events    uint64
+	Steps     uint64
+	EmptyList []int32
+	EmptyPos  int
+	WaterOut  bool // sealed: shrinkage could not be emptied (no water left)
+	RNG       []byte
 }
 
 // maxFails is the number of failed precipitation attempts after which a
@@ -101,7 +106,7 @@ type stickRule struct {
 
 const (
 	classesPerPhase = 28
-	noClass         = 255
+	noClass         = 0xffff
 )
 
 // triIdx maps (faces to water, faces to C-S-H) with sum ≤ 6 to 0–27;
@@ -148,6 +153,11 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	for i := range e.dOf {
 		e.dOf[i] = -1
 	}
+	for id := range e.seq {
+		for _, key := range kinetics.Sequence(kinetics.ID(id)) {
+			e.seq[id] = append(e.seq[id], e.rxIndex[key])
+		}
+	}
 	for _, d := range e.p.Dissolve {
 		e.dOf[d.Phase] = int8(len(e.dph))
 		e.dph = append(e.dph, d.Phase)
@@ -155,6 +165,11 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		e.beta = append(e.beta, d.ThroughProduct)
 		e.sulfFac = append(e.sulfFac, d.SulfateFactor)
 		e.ea = append(e.ea, d.EaKJPerMol)
+		sm := 0.0
+		if ph := kinetics.Lookup(d.Phase); ph.Role == kinetics.RoleSulfate {
+			sm = 1e-12 / ph.MolarVolumeCM3()
+		}
+		e.sulfMol = append(e.sulfMol, sm)
 		rx := -1
 		switch d.Phase {
 		case kinetics.C3S:
@@ -168,7 +183,10 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 		e.rxOfD = append(e.rxOfD, rx)
 	}
-	for _, id := range []kinetics.ID{kinetics.Gypsum, kinetics.AFt} {
+	if len(e.dph)*classesPerPhase >= noClass {
+		return nil, fmt.Errorf("voxel: %d dissolving phases in the kinetics table: at most %d", len(e.dph), (noClass-1)/classesPerPhase)
+	}
+	for _, id := range []kinetics.ID{kinetics.Gypsum} {
 		if e.dOf[id] < 0 {
 			return nil, fmt.Errorf("voxel: the kinetics table must give a dissolution law for %s", kinetics.Lookup(id).Key)
 		}
@@ -238,12 +256,16 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	return e, nil
 }
 
-// setCementMass computes the mass of clinker and sulfate at the start.
+// setCementMass computes the mass of the cement as tested at the start:
+// every anhydrous powder phase — clinker, sulfate carrier, limestone and
+// other fillers — as isothermal calorimetry reports heat per gram of the
+// cement as tested (ASTM C1702, common practice). Heat, shrinkage and
+// water are per gram of this mass.
 func (e *Engine) setCementMass() {
 	e.cementG = 0
 	for i := range kinetics.Phases() {
 		ph := &kinetics.Phases()[i]
-		if ph.Role == kinetics.RoleClinker || ph.Role == kinetics.RoleSulfate {
+		if kinetics.IsAnhydrous(ph.ID) {
 			e.cementG += float64(e.s.Initial[ph.ID]) * ph.DensityGPerCM3 * e.voxCM3
 		}
 	}
@@ -253,7 +275,7 @@ func (e *Engine) setCementMass() {
 // scanning in index order (deterministic).
 func (e *Engine) buildClasses() {
 	n := e.g.Len()
-	e.cls = make([]uint8, n)
+	e.cls = make([]uint16, n)
 	e.slot = make([]int32, n)
 	e.sets = make([][]int32, len(e.dph)*classesPerPhase)
 	e.sumW = make([]int, len(e.dph))
@@ -278,8 +300,12 @@ func (e *Engine) exposure(i int) (w, h int) {
 		switch e.g.Phase[j] {
 		case kinetics.Water:
 			w++
-		case kinetics.CSHInner, kinetics.CSHOuter:
-			h++
+		default:
+			// Any hydrate is product the voxel can dissolve through: a
+			// voxel buried in CH, AFt or AFm is never stranded.
+			if kinetics.IsHydrate(e.g.Phase[j]) {
+				h++
+			}
 		}
 	}
 	return
@@ -288,12 +314,12 @@ func (e *Engine) exposure(i int) (w, h int) {
 // reclassify moves voxel i to the class its phase and exposure call for.
 func (e *Engine) reclassify(i int) {
 	d := e.dOf[e.g.Phase[i]]
-	want := uint8(noClass)
+	want := uint16(noClass)
 	var w, h int
 	if d >= 0 {
 		w, h = e.exposure(i)
 		if w+h > 0 {
-			want = uint8(int(d)*classesPerPhase + int(triIdx[w][h]))
+			want = uint16(int(d)*classesPerPhase + int(triIdx[w][h]))
 		}
 	}
 	old := e.cls[i]
@@ -347,10 +373,12 @@ func (e *Engine) TimeH() float64 { return e.s.TimeS / 3600 }
 // TempC returns the paste temperature now.
 func (e *Engine) TempC() float64 { return e.thermal.At(e.TimeH(), e.HeatJPerG()) }
 
-// HeatJPerG returns the heat released per gram of cement.
+// HeatJPerG returns the heat released per gram of cement as tested
+// (clinker, sulfate and fillers).
 func (e *Engine) HeatJPerG() float64 { return e.s.HeatJ / e.cementG }
 
-// CementG returns the mass of cement (clinker and sulfate) in the box, g.
+// CementG returns the mass of cement as tested (clinker, sulfate, fillers)
+// in the box at the start, g.
 func (e *Engine) CementG() float64 { return e.cementG }
 
 // Grid returns the lattice (owned by the engine; read only).

@@ -11,7 +11,7 @@ var demoMix = map[string]float64{"c3s": 58, "c2s": 17, "c3a": 7.5, "c4af": 10.5,
 
 // enginePaste packs a box of edge n voxels of 1 µm for engine tests with
 // the real packing code: the demo cement ground to a Rosin–Rammler
-// distribution (x′ 14 µm, n 1.05, the DESIGN.md example) at w/c wc.
+// distribution (x′ 14 µm, n 1.05, the default config) at w/c wc.
 func enginePaste(t testing.TB, n int, voxelUM, wc float64, seed uint64) *Grid {
 	t.Helper()
 	c, err := kinetics.NewComposition(demoMix)

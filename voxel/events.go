@@ -14,11 +14,6 @@ const (
 	evAttempt // one per product, in e.products order
 )
 
-// waterHalfFraction is the capillary-water fraction of the box at which
-// dissolution runs at half speed: hydration slows and stops as the water
-// runs out.
-const waterHalfFraction = 0.01
-
 // AdvanceTo runs events until the age reaches untilH hours (or nothing can
 // happen any more). Stopping at an intermediate age does not change what
 // follows: a drawn event that falls beyond untilH is kept for the next call.
@@ -60,32 +55,28 @@ func (e *Engine) computeRates() float64 {
 			e.arrD[d] = kinetics.Arrhenius(e.ea[d], tC)
 		}
 		e.arrNuc = kinetics.Arrhenius(e.p.NucleationEaKJPerMol, tC)
+		e.delta0 = e.p.ProductLengthAt(tC)
 		e.arrT = tC
 	}
 	water := float64(e.s.Count[kinetics.Water])
 	n := float64(e.g.Len())
-	fw := water / (water + waterHalfFraction*n)
+	fw := e.p.WaterFactor(water / n)
 	sSi := e.silicateSaturation()
-	sulfateLeft := e.sulfateLeft()
+	sigma := e.sulfateAvailability()
 	poolSat := e.p.GypsumSolubilityMolPerL * water * e.voxCM3 / 1000
 	var total float64
 	for d, id := range e.dph {
 		r := e.velPerS[d] * (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * e.arrD[d] * fw
+		r *= e.p.SulfateRetardation(e.sulfFac[d], sigma)
 		switch id {
 		case kinetics.C3S, kinetics.C2S:
 			r *= math.Max(0, 1-sSi)
-		case kinetics.C3A, kinetics.C4AF:
-			if sulfateLeft {
-				r *= e.sulfFac[d]
-			}
 		case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
 			if poolSat <= 0 {
 				r = 0
 			} else {
 				r *= math.Max(0, 1-e.s.PoolSO4Mol/poolSat)
 			}
-		case kinetics.AFt:
-			r = 0 // dissolves only as a co-reactant, when called for
 		}
 		e.rates[d] = r
 		total += r
@@ -129,10 +120,19 @@ func (e *Engine) silicateSaturation() float64 {
 	return float64(len(e.s.Free[kinetics.CSHOuter])) / (e.p.SilicateSaturation * water)
 }
 
-// sulfateLeft reports whether solid sulfate remains (a small dissolved
-// remainder does not count: it cannot form a whole voxel of ettringite).
-func (e *Engine) sulfateLeft() bool {
-	return e.s.Count[kinetics.Gypsum]+e.s.Count[kinetics.Hemihydrate]+e.s.Count[kinetics.Anhydrite] > 0
+// sulfateAvailability returns σ of kinetics.SulfateAvailability: the
+// dissolved pool plus the exposed sulfate surface (faces touching water,
+// and faces under product weighted by β) times the supply length.
+func (e *Engine) sulfateAvailability() float64 {
+	a := e.g.VoxelUM * e.g.VoxelUM * e.p.SulfateSupplyLengthUM
+	surf := 0.0
+	for d, m := range e.sulfMol {
+		if m > 0 {
+			surf += (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * a * m
+		}
+	}
+	waterL := float64(e.s.Count[kinetics.Water]) * e.voxCM3 / 1000
+	return e.p.SulfateAvailability(e.s.PoolSO4Mol, surf, waterL)
 }
 
 // fire chooses and runs one event in proportion to the rates.
@@ -220,7 +220,7 @@ func (e *Engine) classWeight(d, c int, weighted bool) float64 {
 func (e *Engine) accept(i, d int) bool {
 	c := int(e.cls[i]) % classesPerPhase
 	h := float64(triH[c])
-	if h == 0 || e.p.ProductLengthUM <= 0 {
+	if h == 0 || e.delta0 <= 0 {
 		return true
 	}
 	w := float64(triW[c])
@@ -228,7 +228,7 @@ func (e *Engine) accept(i, d int) bool {
 	if p := e.g.Particle[i]; p > 0 && int(p) < len(e.partInit) && e.partInit[p] > 0 {
 		r0 := math.Cbrt(3 * float64(e.partInit[p]) / (4 * math.Pi))
 		depth := r0 * (1 - math.Cbrt(float64(e.s.PartLeft[p])/float64(e.partInit[p]))) * e.g.VoxelUM
-		f = 1 / (1 + depth/e.p.ProductLengthUM)
+		f = 1 / (1 + depth/e.delta0)
 	}
 	bound := w + e.beta[d]*h
 	return e.r.Float64()*bound < w+e.beta[d]*f*h
@@ -238,10 +238,10 @@ func (e *Engine) accept(i, d int) bool {
 func (e *Engine) dissolve(i int) {
 	id := e.g.Phase[i]
 	d := e.dOf[id]
-	switch id {
-	case kinetics.C3A, kinetics.C4AF:
-		e.dissolveAluminate(i, id)
-	case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
+	switch {
+	case e.seq[id] != nil:
+		e.dissolveInSequence(i, id)
+	case kinetics.Lookup(id).Role == kinetics.RoleSulfate:
 		e.dissolveSulfate(i)
 	default:
 		if rx := e.rxOfD[d]; rx >= 0 {
@@ -250,26 +250,34 @@ func (e *Engine) dissolve(i int) {
 	}
 }
 
-// dissolveAluminate picks the aluminate reaction the solution allows:
-// ettringite while sulfate lasts, monosulfate from ettringite after, and
-// hydrogarnet when neither is left.
-func (e *Engine) dissolveAluminate(i int, id kinetics.ID) {
-	aft, afm, hg := kinetics.RxC3AAFt, kinetics.RxC3AAFm, kinetics.RxC3AHG
-	if id == kinetics.C4AF {
-		aft, afm, hg = kinetics.RxC4AFAFt, kinetics.RxC4AFAFm, kinetics.RxC4AFHG
-	}
+// dissolveInSequence runs the first reaction of the phase's sequence
+// (kinetics.Sequence) whose co-reactants the solution can supply: for the
+// aluminates, ettringite while sulfate lasts, carboaluminates while calcite
+// lasts, monosulfate from ettringite, hydrogarnet when nothing else is left.
+func (e *Engine) dissolveInSequence(i int, id kinetics.ID) {
 	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
-	rAFt := &kinetics.Reactions()[e.rxIndex[aft]]
-	if e.takeSulfate(molVox * rAFt.Co[0].Mol / rAFt.PrimaryMol) {
-		e.react(i, e.rxIndex[aft])
+	rxs := kinetics.Reactions()
+	seq := e.seq[id]
+	for k, rx := range seq {
+		r := &rxs[rx]
+		ok := true
+		for _, c := range r.Co {
+			if !e.ensure(c.Phase, c.Mol*molVox/r.PrimaryMol) {
+				ok = false
+				break
+			}
+		}
+		if !ok && k < len(seq)-1 {
+			continue
+		}
+		if ok {
+			for _, c := range r.Co {
+				e.withdraw(c.Phase, c.Mol*molVox/r.PrimaryMol)
+			}
+		}
+		e.react(i, rx)
 		return
 	}
-	rAFm := &kinetics.Reactions()[e.rxIndex[afm]]
-	if e.takeAFt(molVox * rAFm.Co[0].Mol / rAFm.PrimaryMol) {
-		e.react(i, e.rxIndex[afm])
-		return
-	}
-	e.react(i, e.rxIndex[hg])
 }
 
 // react turns voxel i into pore water and the products of reaction rx into
@@ -335,44 +343,54 @@ func (e *Engine) leave(i int) {
 	}
 }
 
-// takeSulfate draws mol of dissolved gypsum from the pool, dissolving
-// exposed sulfate voxels as needed. It reports false, leaving the pool as
-// it is, when the exposed sulfate cannot cover it.
-func (e *Engine) takeSulfate(mol float64) bool {
-	for e.s.PoolSO4Mol < mol {
-		i := -1
-		for _, id := range []kinetics.ID{kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite} {
-			if d := e.dOf[id]; d >= 0 {
-				if i = e.pickSurface(int(d), false); i >= 0 {
-					break
+// ensure makes the solution hold at least mol of co-reactant phase id,
+// dissolving exposed voxels of it as needed (sulfate carriers into the
+// sulfate pool; ettringite, calcite and CH into their co-reactant pools).
+// It reports false when the exposed solid cannot cover it; what was
+// dissolved stays in the pool.
+func (e *Engine) ensure(id kinetics.ID, mol float64) bool {
+	if id == kinetics.Gypsum {
+		for e.s.PoolSO4Mol < mol {
+			i := -1
+			for _, sid := range []kinetics.ID{kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite} {
+				if d := e.dOf[sid]; d >= 0 {
+					if i = e.pickSurface(int(d), false); i >= 0 {
+						break
+					}
 				}
 			}
+			if i < 0 {
+				return false
+			}
+			e.dissolveSulfate(i)
 		}
-		if i < 0 {
+		return true
+	}
+	d := int(e.dOf[id])
+	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
+	for e.s.CoPool[id] < mol {
+		if d < 0 {
 			return false
 		}
-		e.dissolveSulfate(i)
-	}
-	e.s.PoolSO4Mol -= mol
-	return true
-}
-
-// takeAFt draws mol of ettringite from its pool, dissolving exposed
-// ettringite voxels as needed; it is called once no exposed sulfate is left.
-func (e *Engine) takeAFt(mol float64) bool {
-	d := int(e.dOf[kinetics.AFt])
-	molVox := e.voxCM3 / kinetics.Lookup(kinetics.AFt).MolarVolumeCM3()
-	for e.s.PoolAFtMol < mol {
 		i := e.pickSurface(d, false)
 		if i < 0 {
 			return false
 		}
-		e.s.PoolAFtMol += molVox
-		e.s.Reacted[kinetics.AFt]++
+		e.s.CoPool[id] += molVox
+		e.s.Reacted[id]++
+		e.leave(i)
 		e.setPhase(i, kinetics.Water)
 	}
-	e.s.PoolAFtMol -= mol
 	return true
+}
+
+// withdraw takes mol of co-reactant id from its pool (after ensure).
+func (e *Engine) withdraw(id kinetics.ID, mol float64) {
+	if id == kinetics.Gypsum {
+		e.s.PoolSO4Mol -= mol
+		return
+	}
+	e.s.CoPool[id] -= mol
 }
 
 // walk moves a dissolved unit of product q from pos through pore water for

@@ -7,7 +7,7 @@ import (
 )
 
 func TestRosinRammler(t *testing.T) {
-	// RRSB form (confirmed, REFERENCES.md): R(x′) = e⁻¹, so 63.2 % passes
+	// RRSB form (DIN 66145, confirmed): R(x′) = e⁻¹, so 63.2 % passes
 	// at x′ whatever n; d50 = x′ (ln 2)^(1/n).
 	p, err := RosinRammler(14, 1.05)
 	if err != nil {

@@ -253,7 +253,7 @@ diffusivity = false
 		return result{s.SetTimeH, s.DepercolationTimeH, s.DepercolationPorosity}
 	}
 	prevT := 0.0
-	for _, c := range []struct{ wc, until float64 }{{0.35, 672}, {0.40, 672}, {0.45, 4000}} {
+	for _, c := range []struct{ wc, until float64 }{{0.35, 672}, {0.40, 1500}, {0.45, 4000}} {
 		r := runWC(c.wc, c.until)
 		if r.deperc == nil {
 			t.Errorf("w/c %.2f: capillary pores still connected after %g h", c.wc, c.until)
