@@ -98,7 +98,7 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 			"target_fraction":   "phase volume fraction of the fresh paste from the mass fractions, the phase densities and w/c",
 			"fines":             "the powder finer than one voxel is merged into the 1-voxel class",
 			"truncation":        "particles are at most half the box edge; the coarser tail is left out and the rest scaled up",
-			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box; voxel faces overstate smooth-sphere area",
+			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box, m² per kg of powder; voxel faces overstate the surface from the PSD (smooth spheres), and neither is a Blaine fineness",
 			"packed_median":     "volume-weighted median of the particles' class diameters",
 			"particle_ids":      "1, 2, … in placement order (largest first); 0 is the original water space",
 			"phase_assignments": "clinker grains are shared among C3S, C2S, C3A and C4AF by a periodic value-noise field with cells of pack.phase_domain_um and exact quantile thresholds, unless pack.clinker_grains = \"monomineral\"",
