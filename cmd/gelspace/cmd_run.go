@@ -126,9 +126,6 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 		}
 		man = *m
 		man.From, man.CheckpointEvery = o.from, o.checkpointEvery
-		if line := droppedAgesLine(cfg); line != "" {
-			fmt.Fprintln(stderr, line)
-		}
 	}
 	policy, err := parseCheckpointEvery(o.checkpointEvery)
 	if err != nil {
@@ -162,6 +159,10 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	if bar != nil {
 		bar.Finish()
 		fmt.Fprintln(stderr)
+	}
+	// After the run, so that a bad input still gets a one-line message.
+	if line := droppedAgesLine(cfg); line != "" && o.resume == "" {
+		fmt.Fprintln(stderr, line)
 	}
 	if !o.quiet {
 		fmt.Fprintln(stdout, runSummaryLine(res, o.out))
