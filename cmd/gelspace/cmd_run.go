@@ -45,7 +45,7 @@ func runCommand() *command {
 			fs.StringVarP(&o.out, "out", "o", "gelspace-out", "output folder")
 			fs.StringVar(&o.from, "from", "", "hydrate the pack saved in this folder (pack.vti) instead of packing anew")
 			fs.StringVar(&o.resume, "resume", "", "continue the stopped run in this folder from its checkpoint")
-			fs.Float64Var(&o.until, "until", 0, "stop at this age in hours (overrides curing.until_h)")
+			fs.Float64Var(&o.until, "until", 0, "stop at this age in hours (overrides curing.until_h; output ages past it are dropped and listed)")
 			fs.StringVar(&o.checkpointEvery, "checkpoint-every", "", "save a checkpoint every N simulated hours (24h) or wall-clock minutes (10m)")
 			fs.BoolVar(&o.noRender, "no-render", false, "skip slice images, plots and report")
 			addConfigFlags(fs, &o.configFlags)
