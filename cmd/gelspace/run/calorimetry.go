@@ -13,20 +13,25 @@ import "math"
 //     no peak: the flow may still be rising.
 //   - dormant minimum: the lowest flow between LandmarkStartH and the
 //     main peak.
-//   - sulfate depletion: within SulfateWindowH after the main peak, the
-//     first second peak (a local maximum standing at least
-//     SecondPeakRise of the main peak's rise above the lowest flow since
-//     the main peak) or, failing that, the first shoulder (a local
-//     maximum of the slope where the decline has slowed to less than
-//     half the steepest decline since the main peak, followed within
-//     ShoulderWindowH by a decline steeper by at least a quarter of that
-//     steepest decline). None found: null.
+//   - sulfate depletion: on the curve smoothed over ±SulfateSmoothH,
+//     within SulfateWindowH after the main peak and while the flow stays
+//     above the dormant minimum by SulfateFloor of the main peak's rise
+//     (a tail of noise is no shoulder), the first second peak (a local
+//     maximum standing at least SecondPeakRise of the main peak's rise
+//     above the lowest flow since the main peak) or, failing that, the first shoulder: a local
+//     maximum of the slope (over ±SulfateSmoothH) where the decline has
+//     eased by at least ShoulderEase of the steepest decline since the
+//     main peak, and steepens again by as much within ShoulderWindowH.
+//     None found: null.
 const (
 	SmoothHalfWidthH = 0.5
+	SulfateSmoothH   = 1.0
 	LandmarkStartH   = 0.5
-	SulfateWindowH   = 36.0
-	SecondPeakRise   = 0.03
+	SulfateWindowH   = 24.0
+	SulfateFloor     = 0.2
+	SecondPeakRise   = 0.05
 	ShoulderWindowH  = 12.0
+	ShoulderEase     = 0.25
 )
 
 // HeatAges are the ages of calorimetry.heat_at, h.
@@ -53,7 +58,7 @@ type HeatAt struct {
 }
 
 // calorimetryMethod is the rule text written beside the landmarks.
-const calorimetryMethod = "heat flow smoothed by a centred moving average over ±0.5 h; main peak: the highest rise above the lowest earlier flow after 0.5 h (not at the end of the run); dormant minimum: the lowest flow between 0.5 h and the main peak; sulfate depletion: within 36 h after the main peak, a second peak rising ≥ 3 % of the main peak's rise, else a shoulder where the decline slows to under half its steepest and steepens again within 12 h; model estimates, not a measured curve"
+const calorimetryMethod = "heat flow at the middle of each sample interval, smoothed by a centred moving average over ±0.5 h; main peak: the highest rise above the lowest earlier flow from 0.5 h on (not at the end of the run); dormant minimum: the lowest flow between 0.5 h and the main peak; sulfate depletion (curve smoothed over ±1 h, within 24 h after the main peak while the flow stays 20 % of the peak's rise above the dormant minimum): the first second peak rising ≥ 5 % of the main peak's rise, else the first shoulder, a local maximum of the slope where the decline eases by ≥ 25 % of its steepest and steepens again by as much within 12 h; model estimates, not a measured curve"
 
 // Landmarks holds the landmark indices found on a curve (-1: none) and
 // the smoothed flow.
@@ -71,24 +76,7 @@ func FindLandmarks(t, flow []float64) Landmarks {
 		panic("run: FindLandmarks: t and flow differ in length")
 	}
 	n := len(t)
-	lm := Landmarks{Dormant: -1, Peak: -1, Sulfate: -1, Smooth: make([]float64, n)}
-	lo := 0
-	for i := range t {
-		for t[lo] < t[i]-SmoothHalfWidthH-1e-9 {
-			lo++
-		}
-		sum, k := 0.0, 0
-		for j := lo; j < n && t[j] <= t[i]+SmoothHalfWidthH+1e-9; j++ {
-			if !math.IsNaN(flow[j]) {
-				sum += flow[j]
-				k++
-			}
-		}
-		lm.Smooth[i] = math.NaN()
-		if k > 0 {
-			lm.Smooth[i] = sum / float64(k)
-		}
-	}
+	lm := Landmarks{Dormant: -1, Peak: -1, Sulfate: -1, Smooth: smooth(t, flow, SmoothHalfWidthH)}
 	q := lm.Smooth
 	i0 := 0
 	for i0 < n && (t[i0] < LandmarkStartH || math.IsNaN(q[i0])) {
@@ -118,26 +106,41 @@ func FindLandmarks(t, flow []float64) Landmarks {
 		return lm // still rising at the end
 	}
 	lm.Peak = best
-	// Sulfate depletion after the main peak.
+	// Sulfate depletion after the main peak, on the curve smoothed over
+	// the wider SulfateSmoothH, with slopes over ±SulfateSmoothH.
+	w := smooth(t, flow, SulfateSmoothH)
 	end := best
-	for end+1 < n && t[end+1] <= t[best]+SulfateWindowH {
+	for end+1 < n && t[end+1] <= t[best]+SulfateWindowH && w[end+1] >= q[bestMin]+SulfateFloor*bestRise {
 		end++
 	}
-	lowest := q[best]
+	lowest := w[best]
 	for k := best + 1; k < end; k++ {
-		lowest = math.Min(lowest, q[k])
-		if q[k] >= q[k-1] && q[k] >= q[k+1] && q[k]-lowest >= SecondPeakRise*bestRise {
+		lowest = math.Min(lowest, w[k])
+		if w[k] >= w[k-1] && w[k] >= w[k+1] && w[k]-lowest >= SecondPeakRise*bestRise {
 			lm.Sulfate = k
 			return lm
 		}
 	}
-	slope := func(k int) float64 { return (q[k+1] - q[k-1]) / (t[k+1] - t[k-1]) }
+	slope := make([]float64, n)
+	for k := range slope {
+		slope[k] = math.NaN()
+		a, b := k, k
+		for a > 0 && t[a] > t[k]-SulfateSmoothH {
+			a--
+		}
+		for b < n-1 && t[b] < t[k]+SulfateSmoothH {
+			b++
+		}
+		if b > a {
+			slope[k] = (w[b] - w[a]) / (t[b] - t[a])
+		}
+	}
 	steepest := 0.0
 	for k := best + 1; k+1 < end; k++ {
-		s := slope(k)
-		if k > best+1 && k+2 <= end && s < 0 && s >= slope(k-1) && s >= slope(k+1) && steepest < 0 && s >= 0.5*steepest {
-			for j := k + 1; j+1 <= end && t[j] <= t[k]+ShoulderWindowH; j++ {
-				if slope(j) <= s+0.25*steepest {
+		s := slope[k]
+		if steepest < 0 && s < 0 && s >= slope[k-1] && s >= slope[k+1] && s-steepest >= -ShoulderEase*steepest {
+			for j := k + 1; j < end && t[j] <= t[k]+ShoulderWindowH; j++ {
+				if slope[j] <= s+ShoulderEase*steepest {
 					lm.Sulfate, lm.Shoulder = k, true
 					return lm
 				}
@@ -146,6 +149,31 @@ func FindLandmarks(t, flow []float64) Landmarks {
 		steepest = math.Min(steepest, s)
 	}
 	return lm
+}
+
+// smooth is the centred moving average of q(t) over ±hw (NaN values left
+// out; NaN where none is in the window).
+func smooth(t, q []float64, hw float64) []float64 {
+	n := len(t)
+	out := make([]float64, n)
+	lo := 0
+	for i := range t {
+		for t[lo] < t[i]-hw-1e-9 {
+			lo++
+		}
+		sum, k := 0.0, 0
+		for j := lo; j < n && t[j] <= t[i]+hw+1e-9; j++ {
+			if !math.IsNaN(q[j]) {
+				sum += q[j]
+				k++
+			}
+		}
+		out[i] = math.NaN()
+		if k > 0 {
+			out[i] = sum / float64(k)
+		}
+	}
+	return out
 }
 
 // calorimetry returns the landmarks of the samples' heat-flow curve and
