@@ -29,6 +29,12 @@ type Config struct {
 
 	Kinetics Kinetics `toml:"kinetics"`
 
+	// DroppedAgesH are the output ages, h, of output.times_h and
+	// output.diffusivity_times_h that lie past curing.until_h and were
+	// dropped when the config was loaded (sorted as given; the command
+	// lists them).
+	DroppedAgesH []float64 `toml:"-"`
+
 	Source string `toml:"-"` // where the config came from, for messages
 	Dir    string `toml:"-"` // folder that relative paths are read from
 	raw    *Raw
@@ -77,14 +83,31 @@ type Box struct {
 
 // PackConfig steers the packing of the initial microstructure.
 type Pack struct {
-	// CorrelationUM is the size of the phase domains inside clinker
-	// grains, µm.
-	CorrelationUM float64 `toml:"correlation_um"`
-	// OnePhasePerParticle makes every clinker grain a single phase.
-	OnePhasePerParticle bool `toml:"one_phase_per_particle"`
-	// GapVoxels keeps this many water voxels between grains (dispersed);
-	// 0 lets grains touch (flocculated).
-	GapVoxels int `toml:"gap_voxels"`
+	// PhaseDomainUM is the size of the phase domains inside polymineral
+	// clinker grains, µm.
+	PhaseDomainUM float64 `toml:"phase_domain_um" json:"phase_domain_um"`
+	// ClinkerGrains is the grains' mineralogy: "polymineral" (C3S, C2S,
+	// C3A and C4AF share every grain in domains of PhaseDomainUM) or
+	// "monomineral" (every clinker grain a single phase).
+	ClinkerGrains string `toml:"clinker_grains" json:"clinker_grains"`
+	// GrainSpacingUM is the least water layer kept between grains, µm
+	// (dispersed); 0 lets grains touch (flocculated). The packing counts
+	// it in voxels: SpacingVoxels.
+	GrainSpacingUM float64 `toml:"grain_spacing_um" json:"grain_spacing_um"`
+}
+
+// Clinker-grain mineralogies, the values of pack.clinker_grains.
+const (
+	Polymineral = "polymineral"
+	Monomineral = "monomineral"
+)
+
+// SpacingVoxels is pack.grain_spacing_um in whole voxels of voxelUM: the
+// nearest whole number, halves rounded up (math.Round), so 0.5 µm at
+// 1 µm voxels is 1 voxel and 1.4 µm is 1. Validate refuses a non-zero
+// spacing that rounds to 0.
+func (p Pack) SpacingVoxels(voxelUM float64) int {
+	return int(math.Round(p.GrainSpacingUM / voxelUM))
 }
 
 // CuringConfig is the curing regime.
@@ -118,6 +141,12 @@ type Output struct {
 	// DiffusivityTol is the relative residual at which the solve stops;
 	// the D/D0 it reports is accurate to about its square.
 	DiffusivityTol float64 `toml:"diffusivity_tol"`
+	// EquivalentAgeEaKJPerMol is the apparent activation energy of the
+	// equivalent age at 20 °C (series.csv equivalent_age_h), kJ/mol; 40 by
+	// default, the order ASTM C1074 gives for a general-use cement (from
+	// memory). It is a reporting constant: the engine's rates keep their
+	// own activation energies.
+	EquivalentAgeEaKJPerMol float64 `toml:"equivalent_age_ea_kj_per_mol"`
 }
 
 // Defaults returns the values of keys a config leaves out. The cement,
@@ -125,10 +154,10 @@ type Output struct {
 func Defaults() *Config {
 	return &Config{
 		Seed:     1,
-		Box:      Box{Voxels: 100, VoxelUM: 1},
-		Pack:     Pack{CorrelationUM: 3},
+		Box:      Box{Voxels: 96, VoxelUM: 1},
+		Pack:     Pack{PhaseDomainUM: 3, ClinkerGrains: Polymineral},
 		Curing:   Curing{Mode: "saturated", TemperatureC: 20, UntilH: 672},
-		Output:   Output{TimesH: []float64{1, 2, 4, 8, 12, 24, 72, 168, 672}, SampleEveryH: 0.25, Diffusivity: true, DiffusivityTol: 1e-5},
+		Output:   Output{TimesH: []float64{1, 2, 4, 8, 12, 24, 48, 72, 168, 672, 2160}, SampleEveryH: 0.25, Diffusivity: true, DiffusivityTol: 1e-5, EquivalentAgeEaKJPerMol: 40},
 		Kinetics: defaultKinetics(),
 	}
 }
@@ -159,6 +188,7 @@ func FromRaw(raw *Raw, sets []string) (*Config, error) {
 	if err != nil {
 		return nil, err
 	}
+	cfg.dropPastEnd(raw)
 	if err := cfg.Validate(); err != nil {
 		return nil, err
 	}
@@ -220,6 +250,9 @@ const (
 	// MaxUntilH is the longest run a config may ask for, h (curing.until_h).
 	MaxUntilH            = 100000.0
 	minCorrUM, maxCorrUM = 0.1, 1000.0
+	// maxSpacingVoxels bounds pack.grain_spacing_um, in voxels (as
+	// voxel.MaxSpacingVoxels).
+	maxSpacingVoxels = 5
 	// bytesPerVoxel is the memory a packed box takes: 1 byte of phase and
 	// 4 of particle id, and under 1 of working space.
 	bytesPerVoxel = 6
@@ -295,11 +328,17 @@ func (c *Config) Validate() error {
 		return r.errAt("box.voxels", "%s", msg)
 	}
 	// [pack]
-	if !(c.Pack.CorrelationUM >= minCorrUM && c.Pack.CorrelationUM <= maxCorrUM) {
-		return r.errAt("pack.correlation_um", "%g µm: must be between %g and %g", c.Pack.CorrelationUM, minCorrUM, maxCorrUM)
+	if !(c.Pack.PhaseDomainUM >= minCorrUM && c.Pack.PhaseDomainUM <= maxCorrUM) {
+		return r.errAt("pack.phase_domain_um", "%g µm: must be between %g and %g", c.Pack.PhaseDomainUM, minCorrUM, maxCorrUM)
 	}
-	if c.Pack.GapVoxels < 0 || c.Pack.GapVoxels > 5 {
-		return r.errAt("pack.gap_voxels", "%d: must be between 0 and 5", c.Pack.GapVoxels)
+	if c.Pack.ClinkerGrains != Polymineral && c.Pack.ClinkerGrains != Monomineral {
+		return r.errAt("pack.clinker_grains", "%q: must be %q or %q", c.Pack.ClinkerGrains, Polymineral, Monomineral)
+	}
+	if maxSp := maxSpacingVoxels * c.Box.VoxelUM; !(c.Pack.GrainSpacingUM >= 0 && c.Pack.GrainSpacingUM <= maxSp) {
+		return r.errAt("pack.grain_spacing_um", "%g µm: must be between 0 and %g (%d voxels of %g µm)", c.Pack.GrainSpacingUM, maxSp, maxSpacingVoxels, c.Box.VoxelUM)
+	}
+	if c.Pack.GrainSpacingUM > 0 && c.Pack.SpacingVoxels(c.Box.VoxelUM) == 0 {
+		return r.errAt("pack.grain_spacing_um", "%g µm rounds to 0 voxels of %g µm: give 0 (touching) or at least %g (half a voxel)", c.Pack.GrainSpacingUM, c.Box.VoxelUM, c.Box.VoxelUM/2)
 	}
 	// [curing]
 	if c.Curing.Mode != "saturated" && c.Curing.Mode != "sealed" {
@@ -317,9 +356,6 @@ func (c *Config) Validate() error {
 		if !(t > prev) || math.IsInf(t, 0) {
 			return r.errAt("output.times_h", "entry %d = %g h: times must be > 0 and increasing", i+1, t)
 		}
-		if t > c.Curing.UntilH {
-			return r.errAt("output.times_h", "entry %d = %g h: must not exceed curing.until_h = %g", i+1, t, c.Curing.UntilH)
-		}
 		prev = t
 	}
 	if !(c.Output.SampleEveryH >= 0.01 && c.Output.SampleEveryH <= 24) {
@@ -327,6 +363,9 @@ func (c *Config) Validate() error {
 	}
 	if !(c.Output.DiffusivityTol >= 1e-10 && c.Output.DiffusivityTol <= 1e-2) {
 		return r.errAt("output.diffusivity_tol", "%g: must be between 1e-10 and 1e-2", c.Output.DiffusivityTol)
+	}
+	if !(c.Output.EquivalentAgeEaKJPerMol >= 10 && c.Output.EquivalentAgeEaKJPerMol <= 100) {
+		return r.errAt("output.equivalent_age_ea_kj_per_mol", "%g kJ/mol: must be between 10 and 100", c.Output.EquivalentAgeEaKJPerMol)
 	}
 	for i, t := range c.Output.DiffusivityTimesH {
 		found := t == c.Curing.UntilH

@@ -33,6 +33,9 @@ type PlotOptions struct {
 	// LinearTime draws time on a linear axis in hours instead of the
 	// default logarithmic one.
 	LinearTime bool
+	// Calorimetry, when not nil, marks its landmarks on the calorimetry
+	// plot.
+	Calorimetry *CalorimetryMarks
 }
 
 // Figure is one rendered plot.
@@ -267,7 +270,8 @@ var dashSets = [][]vg.Length{nil, {vg.Points(7), vg.Points(3)}, {vg.Points(2), v
 
 // RenderPlots draws every plot the series has data for, in this order:
 // alpha (degree of hydration, overall and per clinker phase), heat (heat
-// flow and cumulative heat), volumes (stacked phase volume fractions),
+// flow and cumulative heat), calorimetry (heat flow in linear hours,
+// 0–72 h, with opt.Calorimetry's landmarks), volumes (stacked phase volume fractions),
 // porosity (capillary porosity beside the Powers model), connectivity
 // (connected fractions of solids and pores, with set and depercolation
 // marked) and diffusivity (D/D0, log scale, only if any row has it).
@@ -342,6 +346,13 @@ func RenderPlots(s *Series, opt PlotOptions) ([]Figure, error) {
 		}
 	}
 
+	// Heat flow in linear hours, as calorimetry reports draw it.
+	if f, ok, err := calorimetryFigure(t, col("heat_flow_mw_per_g"), opt.Calorimetry); err != nil {
+		return nil, err
+	} else if ok {
+		figs = append(figs, f)
+	}
+
 	// Phase volumes, stacked.
 	if f, ok, err := volumePlot(s, t, opt); err != nil {
 		return nil, err
@@ -385,7 +396,7 @@ func RenderPlots(s *Series, opt PlotOptions) ([]Figure, error) {
 			p.Y.Min, p.Y.Max = 0, 1.05
 			timeRange(p, t, logX)
 			if x := opt.SetTimeH; x > 0 {
-				vline(p, fmt.Sprintf("model set point %s, not a Vicat time", fmtHMin(x)), x, 0, 1.05, color.RGBA{0x8a, 0x50, 0x10, 0xff})
+				vline(p, fmt.Sprintf("model set point %s (not a Vicat time)", HoursMinutes(x)), x, 0, 1.05, color.RGBA{0x8a, 0x50, 0x10, 0xff})
 			}
 			if x := opt.DepercolationTimeH; x > 0 {
 				vline(p, fmt.Sprintf("pore depercolation %s", fmtAge(x)), x, 0, 1.05, color.RGBA{0x20, 0x40, 0x90, 0xff})

@@ -98,7 +98,7 @@ func TestRenderPlots(t *testing.T) {
 			}
 		}
 	}
-	if got := strings.Join(names, ","); got != "alpha,heat,volumes,porosity,connectivity,diffusivity" {
+	if got := strings.Join(names, ","); got != "alpha,heat,calorimetry,volumes,porosity,connectivity,diffusivity" {
 		t.Errorf("plots %s", got)
 	}
 	// Without any diffusivity there is no D/D0 plot; linear time works.
@@ -129,12 +129,41 @@ func TestWritePlots(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(out) != 12 {
-		t.Errorf("wrote %d files; want 12", len(out))
+	if len(out) != 14 {
+		t.Errorf("wrote %d files; want 14", len(out))
 	}
 	for _, p := range out {
 		if fi, err := os.Stat(p); err != nil || fi.Size() == 0 || filepath.Dir(p) != dir {
 			t.Errorf("%s: %v", p, err)
 		}
+	}
+}
+
+// The calorimetry plot spans 0–72 h in linear hours even on a longer
+// series, and marks the landmarks it is given.
+func TestCalorimetryPlot(t *testing.T) {
+	s := synthSeries(100, 0.45)
+	tcol := s.Column("time_h")
+	if tcol[len(tcol)-1] <= CalorimetryMaxH {
+		t.Fatalf("synthetic series ends at %g h; the test needs a longer one", tcol[len(tcol)-1])
+	}
+	f, ok, err := calorimetryFigure(tcol, s.Column("heat_flow_mw_per_g"), &CalorimetryMarks{DormantMinH: 2, MainPeakH: 9.5, SulfateDepletionH: math.NaN()})
+	if err != nil || !ok {
+		t.Fatalf("calorimetry plot: ok %v, err %v", ok, err)
+	}
+	svg := string(f.SVG)
+	for _, want := range []string{"main peak 9 h 30 min", "dormant minimum 2 h 00 min", ">72<", "age (h)"} {
+		if !strings.Contains(svg, want) {
+			t.Errorf("calorimetry svg lacks %q", want)
+		}
+	}
+	if strings.Contains(svg, "sulfate depletion") {
+		t.Error("sulfate depletion marked without one")
+	}
+	if got := HoursMinutes(5.5); got != "5 h 30 min" {
+		t.Errorf("HoursMinutes(5.5) = %q", got)
+	}
+	if got := HoursMinutes(23.999); got != "24 h 00 min" {
+		t.Errorf("HoursMinutes(23.999) = %q", got)
 	}
 }

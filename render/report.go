@@ -78,14 +78,11 @@ func WriteReport(w io.Writer, r *Report) error {
 	})
 }
 
-// SetPointLabel names the model's set point wherever it is shown: the age
-// at which the solids first form a cluster spanning the box. It is a model
-// estimate, not the result of a Vicat needle test.
-const SetPointLabel = "Model set point (solids percolate; not a Vicat time)"
-
-// KeyResults returns the key-result rows of a series: set and
-// depercolation times (NaN or ≤ 0: "not reached"), then α and cumulative
-// heat at 1, 3, 7 and 28 days where the series reaches them.
+// KeyResults returns the key-result rows of a series: the model's set
+// point (in h and min) and the depercolation time (NaN or ≤ 0: "not
+// reached"), then α and cumulative heat at 1, 2, 3, 7, 28 and 90 days
+// where the series reaches them ("not reached" up to 28 d; 90 d only
+// when reached).
 func KeyResults(s *Series, setTimeH, depercolationTimeH float64) []Row {
 	when := func(h float64) string {
 		if !(h > 0) || math.IsInf(h, 0) {
@@ -93,8 +90,12 @@ func KeyResults(s *Series, setTimeH, depercolationTimeH float64) []Row {
 		}
 		return fmtHMin(h)
 	}
-	rows := []Row{{SetPointLabel, when(setTimeH)}, {"Capillary pores depercolate", when(depercolationTimeH)}}
-	for _, d := range []float64{1, 3, 7, 28} {
+	set := when(setTimeH)
+	if set != "not reached" {
+		set = HoursMinutes(setTimeH)
+	}
+	rows := []Row{{SetPointLabel, set}, {"Capillary pores depercolate", when(depercolationTimeH)}}
+	for _, d := range []float64{1, 2, 3, 7, 28, 90} {
 		a, okA := s.At("alpha", 24*d)
 		q, okQ := s.At("heat_j_per_g", 24*d)
 		if okA {
@@ -103,7 +104,7 @@ func KeyResults(s *Series, setTimeH, depercolationTimeH float64) []Row {
 		if okQ {
 			rows = append(rows, Row{fmt.Sprintf("Heat at %g d", d), fmt.Sprintf("%.0f J/g", q)})
 		}
-		if !okA && !okQ {
+		if !okA && !okQ && d <= 28 { // 90 d is listed only when reached
 			rows = append(rows, Row{fmt.Sprintf("At %g d", d), "not reached"})
 		}
 	}

@@ -62,8 +62,8 @@ func TestReportSelfContained(t *testing.T) {
 			t.Errorf("page contains %q", bad)
 		}
 	}
-	if n := strings.Count(html, "data:image/png;base64,"); n != 7 {
-		t.Errorf("%d embedded images; want 7 (6 plots and 1 slice)", n)
+	if n := strings.Count(html, "data:image/png;base64,"); n != 8 {
+		t.Errorf("%d embedded images; want 8 (7 plots and 1 slice)", n)
 	}
 	// Well-formed: encoding/xml in non-strict HTML mode, and a tag-balance
 	// check of the non-void elements.
@@ -125,7 +125,7 @@ func TestKeyResults(t *testing.T) {
 	for _, r := range rows {
 		got[r.Label] = r.Value
 	}
-	if got[SetPointLabel] != "5.5 h (5 h 30 min)" || got["Capillary pores depercolate"] != "not reached" {
+	if got[SetPointLabel] != "5 h 30 min" || got["Capillary pores depercolate"] != "not reached" {
 		t.Errorf("rows %v", rows)
 	}
 	for _, k := range []string{"Degree of hydration at 1 d", "Heat at 28 d"} {

@@ -31,7 +31,7 @@ func mixPaste(t testing.TB, mix map[string]float64, n int, voxelUM, wc float64, 
 	if err != nil {
 		t.Fatal(err)
 	}
-	pops := Populations(c.PasteVolumeFractions(wc), n*n*n, false)
+	pops := Populations(c.PasteVolumeFractions(wc), n*n*n, Polymineral)
 	res, err := Pack(PackSpec{NX: n, NY: n, NZ: n, VoxelUM: voxelUM, Classes: cls, Pops: pops, Seed: seed})
 	if err != nil {
 		t.Fatal(err)

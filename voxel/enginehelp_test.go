@@ -26,7 +26,7 @@ func enginePaste(t testing.TB, n int, voxelUM, wc float64, seed uint64) *Grid {
 	if err != nil {
 		t.Fatal(err)
 	}
-	pops := Populations(c.PasteVolumeFractions(wc), n*n*n, false)
+	pops := Populations(c.PasteVolumeFractions(wc), n*n*n, Polymineral)
 	res, err := Pack(PackSpec{NX: n, NY: n, NZ: n, VoxelUM: voxelUM, Classes: cls, Pops: pops, Seed: seed})
 	if err != nil {
 		t.Fatal(err)

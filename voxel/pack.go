@@ -29,11 +29,10 @@ func (p Population) Total() int {
 // Populations splits the solid of a fresh paste into particle populations
 // for a box of nVoxels voxels. pasteVol is indexed by phase id (volume
 // fractions of the paste; water and other non-anhydrous entries are
-// ignored). Clinker phases share multi-phase grains unless
-// onePhasePerParticle; sulfates and fillers are always grains of their
-// own. Voxel counts are rounded by largest remainder so that each phase is
+// ignored). Clinker phases share polymineral grains unless grains is
+// Monomineral; sulfates and fillers are always grains of their own. Voxel counts are rounded by largest remainder so that each phase is
 // within one voxel of its exact share and the total solid is round(φ·N).
-func Populations(pasteVol [kinetics.NumIDs]float64, nVoxels int, onePhasePerParticle bool) []Population {
+func Populations(pasteVol [kinetics.NumIDs]float64, nVoxels int, grains ClinkerGrains) []Population {
 	var want [kinetics.NumIDs]float64
 	var cnt [kinetics.NumIDs]int
 	sum := 0.0
@@ -67,7 +66,7 @@ func Populations(pasteVol [kinetics.NumIDs]float64, nVoxels int, onePhasePerPart
 			continue
 		}
 		p := kinetics.Lookup(kinetics.ID(id))
-		if p.Role == kinetics.RoleClinker && !onePhasePerParticle {
+		if p.Role == kinetics.RoleClinker && grains == Polymineral {
 			clinker.Phases = append(clinker.Phases, p.ID)
 			clinker.Voxels = append(clinker.Voxels, c)
 			continue
@@ -80,8 +79,19 @@ func Populations(pasteVol [kinetics.NumIDs]float64, nVoxels int, onePhasePerPart
 	return pops
 }
 
-// PackSpec describes a box to pack. The zero values of GapVoxels,
-// CorrelationUM and Seed are usable defaults (touching allowed, 3 µm
+// ClinkerGrains is the mineralogy of the clinker grains of a pack.
+type ClinkerGrains uint8
+
+const (
+	// Polymineral grains share C3S, C2S, C3A and C4AF in phase domains
+	// (the zero value).
+	Polymineral ClinkerGrains = iota
+	// Monomineral grains are each a single clinker phase.
+	Monomineral
+)
+
+// PackSpec describes a box to pack. The zero values of SpacingVoxels,
+// DomainUM and Seed are usable defaults (touching allowed, 3 µm
 // domains, seed 0).
 type PackSpec struct {
 	NX, NY, NZ int
@@ -89,27 +99,27 @@ type PackSpec struct {
 	Classes    *Classes // particle sizes, from PSD.Classes
 	Pops       []Population
 
-	// GapVoxels is the least number of water voxels kept between the
+	// SpacingVoxels is the least number of water voxels kept between the
 	// surfaces of two particles (dispersed paste); 0 lets them touch
 	// (flocculated).
-	GapVoxels int
+	SpacingVoxels int
 
-	// CorrelationUM is the size of the phase domains inside multi-phase
+	// DomainUM is the size of the phase domains inside polymineral
 	// clinker grains: the cell edge of the value-noise field that orders
-	// voxels before the quantile thresholds. 0 means DefaultCorrelationUM.
-	CorrelationUM float64
+	// voxels before the quantile thresholds. 0 means DefaultDomainUM.
+	DomainUM float64
 
 	Seed uint64
 }
 
-// DefaultCorrelationUM is the phase-domain size used when
-// PackSpec.CorrelationUM is 0: a few µm, the order of the clinker crystals
+// DefaultDomainUM is the phase-domain size used when
+// PackSpec.DomainUM is 0: a few µm, the order of the clinker crystals
 // in a ground cement grain (an assumption of gelspace, not a measured
 // value).
-const DefaultCorrelationUM = 3.0
+const DefaultDomainUM = 3.0
 
-// MaxGapVoxels bounds PackSpec.GapVoxels.
-const MaxGapVoxels = 5
+// MaxSpacingVoxels bounds PackSpec.SpacingVoxels.
+const MaxSpacingVoxels = 5
 
 // PackResult is a packed box and what it took.
 type PackResult struct {
@@ -134,7 +144,7 @@ func (e *PackError) Error() string { return e.Msg }
 // largest first, in the periodic box, each population's particle counts
 // from Classes.Counts so that every phase reaches exactly its target voxel
 // count. A particle goes where all voxels of the sphere of diameter
-// d + 2·GapVoxels around the same anchor are water; after 256 random
+// d + 2·SpacingVoxels around the same anchor are water; after 256 random
 // trials the box is scanned from a random voxel for the first place that
 // fits. Particle ids are 1, 2, … in placement order. Multi-phase clinker
 // grains then get their phases from two periodic value-noise fields:
@@ -146,8 +156,8 @@ func Pack(spec PackSpec) (*PackResult, error) {
 	if spec.Classes == nil {
 		panic("voxel: Pack: nil Classes")
 	}
-	if spec.GapVoxels < 0 || spec.GapVoxels > MaxGapVoxels {
-		return nil, fmt.Errorf("gap %d voxels: must be between 0 and %d", spec.GapVoxels, MaxGapVoxels)
+	if spec.SpacingVoxels < 0 || spec.SpacingVoxels > MaxSpacingVoxels {
+		return nil, fmt.Errorf("spacing %d voxels: must be between 0 and %d", spec.SpacingVoxels, MaxSpacingVoxels)
 	}
 	if len(spec.Pops) > 255 {
 		panic("voxel: Pack: more than 255 populations")
@@ -203,13 +213,13 @@ func Pack(spec PackSpec) (*PackResult, error) {
 		rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
 		m := sphereMask(d)
 		chk := m
-		if spec.GapVoxels > 0 {
-			chk = sphereMask(d + 2*spec.GapVoxels)
+		if spec.SpacingVoxels > 0 {
+			chk = sphereMask(d + 2*spec.SpacingVoxels)
 		}
 		for _, pi := range order {
 			i, ok := pk.place(chk)
 			if !ok {
-				return nil, &PackError{fmt.Sprintf("cannot place a particle of %d voxels (%.3g µm) after %.1f %% of the solid was placed (box %.1f %% solid): the paste is too dense for random packing; raise mix.w_c, lower pack.gap_voxels, or use a coarser voxel or larger box",
+				return nil, &PackError{fmt.Sprintf("cannot place a particle of %d voxels (%.3g µm) after %.1f %% of the solid was placed (box %.1f %% solid): the paste is too dense for random packing; raise mix.w_c, lower pack.grain_spacing_um, or use a coarser voxel or larger box",
 					d, float64(d)*spec.VoxelUM, 100*float64(placed)/float64(total), 100*float64(placed)/float64(g.Len()))}
 			}
 			id := int32(len(res.Diameter))
@@ -220,12 +230,12 @@ func Pack(spec PackSpec) (*PackResult, error) {
 		}
 	}
 	res.Attempts, res.Scans = pk.attempts, pk.scans
-	corr := spec.CorrelationUM
+	corr := spec.DomainUM
 	if corr == 0 {
-		corr = DefaultCorrelationUM
+		corr = DefaultDomainUM
 	}
 	if !(corr > 0) {
-		return nil, fmt.Errorf("correlation length %g µm: must be > 0", corr)
+		return nil, fmt.Errorf("phase-domain size %g µm: must be > 0", corr)
 	}
 	for pi, p := range spec.Pops {
 		if len(p.Phases) > 1 {

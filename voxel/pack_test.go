@@ -28,8 +28,8 @@ func packBox(t testing.TB, n int, wc float64, seed uint64, onePhase bool, gap in
 	if err != nil {
 		t.Fatal(err)
 	}
-	pops := Populations(demoPaste(t, wc), n*n*n, onePhase)
-	res, err := Pack(PackSpec{NX: n, NY: n, NZ: n, VoxelUM: 1, Classes: cls, Pops: pops, Seed: seed, GapVoxels: gap})
+	pops := Populations(demoPaste(t, wc), n*n*n, grainsOf(onePhase))
+	res, err := Pack(PackSpec{NX: n, NY: n, NZ: n, VoxelUM: 1, Classes: cls, Pops: pops, Seed: seed, SpacingVoxels: gap})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -255,14 +255,14 @@ func TestPackPeriodic(t *testing.T) {
 func TestPackUnreachable(t *testing.T) {
 	psd, _ := RosinRammler(8, 1.1)
 	cls, _ := psd.Classes(1, 30)
-	pops := Populations(demoPaste(t, 0.12), 30*30*30, false)
-	_, err := Pack(PackSpec{NX: 30, NY: 30, NZ: 30, VoxelUM: 1, Classes: cls, Pops: pops, GapVoxels: 2, Seed: 1})
+	pops := Populations(demoPaste(t, 0.12), 30*30*30, Polymineral)
+	_, err := Pack(PackSpec{NX: 30, NY: 30, NZ: 30, VoxelUM: 1, Classes: cls, Pops: pops, SpacingVoxels: 2, Seed: 1})
 	if _, ok := err.(*PackError); !ok {
 		t.Fatalf("dense dispersed box: got %v, want a PackError", err)
 	}
 	// Classes for a 40 box used on a 20 box: particles too big.
 	cls40, _ := psd.Classes(1, 60)
-	pops = Populations(demoPaste(t, 0.45), 20*20*20, false)
+	pops = Populations(demoPaste(t, 0.45), 20*20*20, Polymineral)
 	_, err = Pack(PackSpec{NX: 20, NY: 20, NZ: 20, VoxelUM: 1, Classes: cls40, Pops: pops, Seed: 1})
 	if _, ok := err.(*PackError); !ok {
 		t.Fatalf("particles larger than box: got %v, want a PackError", err)
@@ -311,7 +311,7 @@ func BenchmarkPack200(b *testing.B) {
 		}()
 		psd, _ := RosinRammler(14, 1.05)
 		cls, _ := psd.Classes(1, n)
-		pops := Populations(demoPaste(b, 0.40), n*n*n, false)
+		pops := Populations(demoPaste(b, 0.40), n*n*n, Polymineral)
 		res, err := Pack(PackSpec{NX: n, NY: n, NZ: n, VoxelUM: 1, Classes: cls, Pops: pops, Seed: 1})
 		if err != nil {
 			b.Fatal(err)
@@ -372,4 +372,12 @@ func TestPackLong(t *testing.T) {
 			}
 		}
 	}
+}
+
+// grainsOf maps the tests' one-phase flag to the grain mineralogy.
+func grainsOf(onePhase bool) ClinkerGrains {
+	if onePhase {
+		return Monomineral
+	}
+	return Polymineral
 }

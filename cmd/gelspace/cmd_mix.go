@@ -77,7 +77,7 @@ func printMix(w io.Writer, rep run.MixReport) {
 	p := rep.PSD
 	fmt.Fprintf(w, "\nPSD      %s\n", p.Description)
 	fmt.Fprintf(w, "         d10 %.2f µm, d50 %.2f µm, d90 %.2f µm\n", p.D10UM, p.D50UM, p.D90UM)
-	fmt.Fprintf(w, "surface  %.0f m²/kg as smooth spheres, %.0f m²/kg digitised (voxel faces)\n", p.SurfaceSpheresM2PerKg, p.SurfaceVoxelM2PerKg)
+	fmt.Fprintf(w, "surface  %.0f m²/kg from the PSD, not Blaine (smooth spheres); %.0f m²/kg digitised (voxel faces)\n", p.SurfaceSpheresM2PerKg, p.SurfaceVoxelM2PerKg)
 	fmt.Fprintf(w, "box      %d³ voxels of %g µm; particles 1 to %d voxels (≤ %g µm, half the edge)\n", rep.Box.Voxels, rep.Box.VoxelUM, p.MaxDiameterVoxels, p.MaxDiameterUM)
 	fmt.Fprintf(w, "fines    %.2f %% finer than one voxel, %s\n", 100*p.FinerThanVoxel, p.FineRepresentation)
 	fmt.Fprintf(w, "coarse   %.2f %% coarser than the largest particle, left out (the rest scaled up)\n", 100*p.Truncated)

@@ -21,9 +21,9 @@ func packCommand() *command {
 		name:    "pack",
 		args:    "[CONFIG] [--out DIR] [flags]",
 		summary: "build and save the initial microstructure (pack.vti, pack.npy, phases.csv, pack.json)",
-		examples: `  gelspace pack --out demo-out                          # embedded default, 100³ voxels
+		examples: `  gelspace pack --out demo-out                          # embedded default, 96³ voxels
   gelspace pack configs/rw-g-psd-table.toml --out rw-g  # measured PSD table
-  gelspace pack my.toml --size 200 --seed 3 --out big --set pack.gap_voxels=1
+  gelspace pack my.toml --size 200 --seed 3 --out big --set pack.grain_spacing_um=1
 `,
 		flags: func(fs *pflag.FlagSet) any {
 			o := &packOpts{}

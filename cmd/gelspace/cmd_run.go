@@ -45,7 +45,7 @@ func runCommand() *command {
 			fs.StringVarP(&o.out, "out", "o", "gelspace-out", "output folder")
 			fs.StringVar(&o.from, "from", "", "hydrate the pack saved in this folder (pack.vti) instead of packing anew")
 			fs.StringVar(&o.resume, "resume", "", "continue the stopped run in this folder from its checkpoint")
-			fs.Float64Var(&o.until, "until", 0, "stop at this age in hours (overrides curing.until_h)")
+			fs.Float64Var(&o.until, "until", 0, "stop at this age in hours (overrides curing.until_h; output ages past it are dropped and listed)")
 			fs.StringVar(&o.checkpointEvery, "checkpoint-every", "", "save a checkpoint every N simulated hours (24h) or wall-clock minutes (10m)")
 			fs.BoolVar(&o.noRender, "no-render", false, "skip slice images, plots and report")
 			addConfigFlags(fs, &o.configFlags)
@@ -110,26 +110,12 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 		}
 	} else {
 		if fs.Changed("until") {
-			// --until shortens the run: the output ages beyond it go.
+			// --until shortens the run: the output ages beyond it are
+			// dropped when the config is loaded (Config.DroppedAgesH).
 			if !(o.until > 0) {
 				return &usageError{fmt.Sprintf("run: --until %g: must be > 0 hours", o.until)}
 			}
-			raw, err := configs.LoadRaw(fs.Arg(0))
-			if err != nil {
-				return err
-			}
-			for _, s := range o.sets {
-				if err := raw.Set(s); err != nil {
-					return err
-				}
-			}
-			base, err := raw.Decode()
-			if err != nil {
-				return err
-			}
-			o.sets = append(o.sets, fmt.Sprintf("curing.until_h=%g", o.until),
-				"output.times_h="+tomlList(below(base.Output.TimesH, o.until)),
-				"output.diffusivity_times_h="+tomlList(below(base.Output.DiffusivityTimesH, o.until)))
+			o.sets = append(o.sets, fmt.Sprintf("curing.until_h=%g", o.until))
 		}
 		if cfg, err = o.load(fs, "run"); err != nil {
 			return err
@@ -173,6 +159,10 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	if bar != nil {
 		bar.Finish()
 		fmt.Fprintln(stderr)
+	}
+	// After the run, so that a bad input still gets a one-line message.
+	if line := droppedAgesLine(cfg); line != "" && o.resume == "" {
+		fmt.Fprintln(stderr, line)
 	}
 	if !o.quiet {
 		fmt.Fprintln(stdout, runSummaryLine(res, o.out))
@@ -222,22 +212,15 @@ func runSummaryLine(r *run.Result, dir string) string {
 	return b.String()
 }
 
-// below returns the ages of ts that are at most limit.
-func below(ts []float64, limit float64) []float64 {
-	var out []float64
-	for _, t := range ts {
-		if t <= limit {
-			out = append(out, t)
-		}
+// droppedAgesLine is the one line that lists the output ages past the end
+// of the run, or "" when none was dropped.
+func droppedAgesLine(cfg *configs.Config) string {
+	if len(cfg.DroppedAgesH) == 0 {
+		return ""
 	}
-	return out
-}
-
-// tomlList formats numbers as a TOML array.
-func tomlList(v []float64) string {
-	parts := make([]string, len(v))
-	for i, x := range v {
+	parts := make([]string, len(cfg.DroppedAgesH))
+	for i, x := range cfg.DroppedAgesH {
 		parts[i] = strconv.FormatFloat(x, 'g', -1, 64)
 	}
-	return "[" + strings.Join(parts, ", ") + "]"
+	return fmt.Sprintf("gelspace run: output ages past the end of the run (%g h) dropped: %s h", cfg.Curing.UntilH, strings.Join(parts, ", "))
 }

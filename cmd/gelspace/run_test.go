@@ -46,7 +46,7 @@ func TestRunOutputs(t *testing.T) {
 		t.Errorf("summary line %q", msg)
 	}
 	for _, f := range []string{"series.csv", "samples.csv", "summary.json", "final.vti", "final.npy", "phases.csv", "run.json",
-		"report.html", "timelapse.gif", "plots/alpha.png", "plots/heat.svg", "slices/final_cutaway_phase.png"} {
+		"report.html", "timelapse.gif", "plots/alpha.png", "plots/heat.svg", "plots/calorimetry.png", "plots/calorimetry.svg", "slices/final_cutaway_phase.png"} {
 		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
 			t.Errorf("missing %s", f)
 		}
@@ -63,7 +63,7 @@ func TestRunOutputs(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := "time_h,temperature_c,alpha,alpha_c3s,alpha_c2s,alpha_c3a,alpha_c4af,heat_j_per_g,heat_flow_mw_per_g,chem_shrinkage_ml_per_g,water_consumed_g_per_g,nonevaporable_water_g_per_g,capillary_porosity,water_filled_porosity,solids_connected_fraction,solids_span_axes,pores_connected_fraction,pores_span_axes,rel_diffusivity,vol_water"
+	want := "time_h,temperature_c,alpha,alpha_c3s,alpha_c2s,alpha_c3a,alpha_c4af,heat_j_per_g,heat_flow_mw_per_g,chem_shrinkage_ml_per_g,water_consumed_g_per_g,nonevaporable_water_g_per_g,capillary_porosity,water_filled_porosity,solids_connected_fraction,solids_span_axes,pores_connected_fraction,pores_span_axes,rel_diffusivity,formation_factor,equivalent_age_h,gel_space_ratio,gel_porosity,total_porosity,ch_g_per_100g,bound_water_g_per_100g,aft_g_per_100g,afm_g_per_100g,csh_g_per_100g,vol_water"
 	if got := strings.Join(s.Columns, ","); !strings.HasPrefix(got, want) {
 		t.Errorf("series.csv columns\n%s\nwant prefix\n%s", got, want)
 	}
@@ -75,7 +75,8 @@ func TestRunOutputs(t *testing.T) {
 	if err := json.Unmarshal(data, &sum); err != nil {
 		t.Fatal(err)
 	}
-	for _, k := range []string{"set_time_h", "set_alpha", "depercolation_time_h", "depercolation_porosity", "initial_solid_fraction", "at_age", "wall_s", "caution"} {
+	for _, k := range []string{"set_time_h", "set_time_h_min", "set_point_note", "set_alpha", "depercolation_time_h", "depercolation_porosity", "initial_solid_fraction", "at_age", "wall_s", "caution",
+		"calorimetry", "chloride", "equivalent_age", "bases"} {
 		if _, ok := sum[k]; !ok {
 			t.Errorf("summary.json lacks %s", k)
 		}
@@ -290,5 +291,35 @@ func TestRunUntil(t *testing.T) {
 	}
 	if got := strings.Join(ages, " "); got != "1 2 4 5" {
 		t.Errorf("output ages %q, want 1 2 4 5", got)
+	}
+}
+
+// TestRunUntilDefault: the default config with curing.until_h = 48 (or
+// --until 48) runs, and the output ages past 48 h are listed in one line
+// on stderr.
+func TestRunUntilDefault(t *testing.T) {
+	for _, args := range [][]string{{"--set", "curing.until_h=48"}, {"--until", "48"}} {
+		out := filepath.Join(t.TempDir(), "short")
+		var stdout, stderr bytes.Buffer
+		all := append([]string{"run", "--size", "32", "--set", "box.voxel_um=1.5", "--set", "output.diffusivity=false", "--no-render", "-q", "--out", out}, args...)
+		if code := Main(all, &stdout, &stderr); code != 0 {
+			t.Fatalf("%v: exit %d: %s", args, code, stderr.String())
+		}
+		want := "gelspace run: output ages past the end of the run (48 h) dropped: 72, 168, 672 h\n"
+		if stderr.String() != want {
+			t.Errorf("%v: stderr %q, want %q", args, stderr.String(), want)
+		}
+		var sum struct {
+			AtAge []struct {
+				Days float64 `json:"days"`
+			} `json:"at_age"`
+		}
+		data, _ := os.ReadFile(filepath.Join(out, "summary.json"))
+		if err := json.Unmarshal(data, &sum); err != nil {
+			t.Fatal(err)
+		}
+		if len(sum.AtAge) != 2 || sum.AtAge[0].Days != 1 || sum.AtAge[1].Days != 2 {
+			t.Errorf("%v: at_age %+v, want 1 and 2 days", args, sum.AtAge)
+		}
 	}
 }

@@ -150,7 +150,7 @@ func TestSweepJobsIdentical(t *testing.T) {
 func TestSweepFailedPoint(t *testing.T) {
 	// w/c 0.2 with two water voxels between grains cannot be packed (a
 	// run-time failure of that point only).
-	sw := writeSweep(t, "base = \"base.toml\"\n[set]\n\"mix.w_c\" = 0.2\n[axes]\n\"pack.gap_voxels\" = [0, 2]\n")
+	sw := writeSweep(t, "base = \"base.toml\"\n[set]\n\"mix.w_c\" = 0.2\n[axes]\n\"pack.grain_spacing_um\" = [0, 2]\n")
 	out := filepath.Join(t.TempDir(), "out")
 	var o, e bytes.Buffer
 	code := Main([]string{"sweep", sw, "--out", out, "-q"}, &o, &e)

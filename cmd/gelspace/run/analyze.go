@@ -22,7 +22,7 @@ type Analysis struct {
 	SolidsConnectedFraction float64            `json:"solids_connected_fraction"`
 	SolidsSpanAxes          []string           `json:"solids_span_axes"`
 	RelDiffusivity          [3]float64         `json:"rel_diffusivity"`
-	FormationFactor         [3]float64         `json:"formation_factor"` // -1: no conducting path
+	FormationFactor         [3]*float64        `json:"formation_factor"` // null: no conducting path
 	PhaseFractions          map[string]float64 `json:"phase_fractions"`
 }
 
@@ -57,9 +57,8 @@ func Analyze(box percolation.Box, g *voxel.Grid, tol float64) (*Analysis, error)
 		PhaseFractions:          map[string]float64{},
 	}
 	for a := range 3 {
-		rep.FormationFactor[a] = d.Formation[a]
-		if math.IsInf(d.Formation[a], 0) {
-			rep.FormationFactor[a] = -1
+		if !math.IsInf(d.Formation[a], 0) {
+			rep.FormationFactor[a] = ptr(d.Formation[a])
 		}
 	}
 	cnt := g.Count()

@@ -24,7 +24,9 @@ import (
 var seriesHead = []string{"time_h", "temperature_c", "alpha", "alpha_c3s", "alpha_c2s", "alpha_c3a", "alpha_c4af",
 	"heat_j_per_g", "heat_flow_mw_per_g", "chem_shrinkage_ml_per_g", "water_consumed_g_per_g",
 	"nonevaporable_water_g_per_g", "capillary_porosity", "water_filled_porosity",
-	"solids_connected_fraction", "solids_span_axes", "pores_connected_fraction", "pores_span_axes", "rel_diffusivity"}
+	"solids_connected_fraction", "solids_span_axes", "pores_connected_fraction", "pores_span_axes", "rel_diffusivity",
+	"formation_factor", "equivalent_age_h", "gel_space_ratio", "gel_porosity", "total_porosity",
+	"ch_g_per_100g", "bound_water_g_per_100g", "aft_g_per_100g", "afm_g_per_100g", "csh_g_per_100g"}
 
 // column indices used below
 const (
@@ -47,6 +49,16 @@ const (
 	colPoresFrac
 	colPoresSpan
 	colDiff
+	colFormation
+	colEqAge
+	colGelSpace
+	colGelPor
+	colTotPor
+	colCH
+	colBoundW
+	colAFt
+	colAFm
+	colCSH
 	nHead
 )
 
@@ -82,7 +94,10 @@ type runState struct {
 	WallS    float64
 	// InitialSolid is the solid volume fraction of the packed box.
 	InitialSolid float64
-	Events       uint64
+	// StartTempC is the paste temperature at age 0, °C (the start of the
+	// first equivalent-age interval).
+	StartTempC float64
+	Events     uint64
 }
 
 // schedule returns the sample ages: every sampleEvery hours, every output
@@ -258,6 +273,7 @@ func (h *hydration) step() (bool, error) {
 		h.st.Outputs = append(h.st.Outputs, len(h.st.Samples))
 		h.st.Frames = append(h.st.Frames, midPlane(h.e.Grid()))
 	}
+	h.derive(r, prev)
 	h.st.Samples = append(h.st.Samples, r)
 	h.st.Next++
 	ev, _ := h.e.Events()
@@ -306,6 +322,7 @@ func (h *hydration) start() error {
 		}
 	}
 	h.st.InitialSolid = float64(solid) / float64(g.Len())
+	h.st.StartTempC = h.e.TempC()
 	h.prev = h.e.Clone()
 	return nil
 }

@@ -117,7 +117,7 @@ type PSDReport struct {
 	D10UM                 float64 `json:"d10_um"`
 	D50UM                 float64 `json:"d50_um"`
 	D90UM                 float64 `json:"d90_um"`
-	SurfaceSpheresM2PerKg float64 `json:"specific_surface_spheres_m2_per_kg"`
+	SurfaceSpheresM2PerKg float64 `json:"specific_surface_psd_m2_per_kg"` // from the PSD (spheres), not Blaine
 	SurfaceVoxelM2PerKg   float64 `json:"specific_surface_digitised_m2_per_kg"`
 	FinerThanVoxel        float64 `json:"finer_than_voxel_fraction"`
 	FineRepresentation    string  `json:"fine_representation"`

@@ -9,10 +9,12 @@ import (
 	"path/filepath"
 	"runtime"
 	"sort"
+	"strings"
 	"sync"
 
 	"github.com/BurntSushi/toml"
 
+	"gelspace/configs"
 	"gelspace/kinetics"
 	"gelspace/render"
 	"gelspace/voxel"
@@ -46,7 +48,15 @@ type Summary struct {
 	InitialSolidFractionTarget float64 `json:"initial_solid_fraction_target"`
 	InitialSolidFraction       float64 `json:"initial_solid_fraction"`
 
+	// Bases says what every volume fraction and per-gram value is of.
+	Bases Bases `json:"bases"`
+
+	// SetTimeH is the model's set point: the age at which the solids
+	// first connect across the box in all three axes. It is not a Vicat
+	// time (SetPointNote).
 	SetTimeH              *float64 `json:"set_time_h"`
+	SetTimeHMin           *string  `json:"set_time_h_min"` // the same, as "5 h 30 min"
+	SetPointNote          string   `json:"set_point_note"`
 	SetAlpha              *float64 `json:"set_alpha"`
 	DepercolationTimeH    *float64 `json:"depercolation_time_h"`
 	DepercolationPorosity *float64 `json:"depercolation_porosity"`
@@ -56,6 +66,15 @@ type Summary struct {
 	Final AgeValues   `json:"final"`
 
 	RelDiffusivity []DiffusivityAt `json:"rel_diffusivity"`
+
+	// Calorimetry holds the heat-flow landmarks and the heat at 12 h to
+	// 7 d.
+	Calorimetry Calorimetry `json:"calorimetry"`
+	// Chloride is the paste's effective chloride diffusion coefficient at
+	// the last age D/D0 was computed; null without D/D0.
+	Chloride *ChlorideEstimate `json:"chloride"`
+	// EquivalentAge states how series.csv's equivalent_age_h is computed.
+	EquivalentAge EquivalentAgeMethod `json:"equivalent_age"`
 
 	Events     uint64  `json:"events"`
 	WallS      float64 `json:"wall_s"`
@@ -74,13 +93,60 @@ type AgeValues struct {
 	TemperatureC      float64  `json:"temperature_c"`
 	SolidsConnected   *float64 `json:"solids_connected_fraction,omitempty"`
 	PoresConnected    *float64 `json:"pores_connected_fraction,omitempty"`
+	EquivalentAgeH    float64  `json:"equivalent_age_h"`
+	GelSpaceRatio     float64  `json:"gel_space_ratio"`
+	GelPorosity       float64  `json:"gel_porosity"`
+	TotalPorosity     float64  `json:"total_porosity"`
+	CHGPer100G        float64  `json:"ch_g_per_100g"`
+	BoundWaterGPer100 float64  `json:"bound_water_g_per_100g"`
+	AFtGPer100G       float64  `json:"aft_g_per_100g"`
+	AFmGPer100G       float64  `json:"afm_g_per_100g"`
+	CSHGPer100G       float64  `json:"csh_g_per_100g"`
 }
 
-// DiffusivityAt is D/D0 per axis at one age.
+// Bases of summary.json and series.csv.
+type Bases struct {
+	Volumes string `json:"volumes"`
+	PerGram string `json:"per_gram"`
+}
+
+// The bases, as written in summary.json and the column docs.
+const (
+	VolumeBasis  = "fraction of the paste volume (the box: cement, hydrates, water-filled and empty pores)"
+	PerGramBasis = "per gram (or per 100 g) of the cement in the box, as the engine counts it"
+	// SetPointNote is written beside every set point.
+	SetPointNote = "model set point: the solids first connect across the box in all three axes; not a Vicat time (ASTM C191, EN 196-3 measure that)"
+	// PasteEstimateNote marks the chloride estimate.
+	PasteEstimateNote = "paste estimate from the model's pore network (Nernst–Einstein D_eff = D0/F, D0(Cl⁻) = 2.03e-9 m²/s at 25 °C, CRC Handbook); a model estimate for screening, not a migration or diffusion test of concrete"
+)
+
+// ChlorideEstimate is summary.json's chloride.
+type ChlorideEstimate struct {
+	TimeH float64 `json:"time_h"`
+	// FormationFactor is 1/(D/D0) of the mean over the axes; null when
+	// no path conducts.
+	FormationFactor *float64 `json:"formation_factor"`
+	D0M2PerS        float64  `json:"d0_m2_per_s"`
+	DEffM2PerS      float64  `json:"d_eff_m2_per_s"`
+	Note            string   `json:"note"`
+}
+
+// EquivalentAgeMethod is summary.json's equivalent_age.
+type EquivalentAgeMethod struct {
+	ReferenceC         float64 `json:"reference_temperature_c"`
+	ActivationKJPerMol float64 `json:"activation_energy_kj_per_mol"`
+	Method             string  `json:"method"`
+	FinalH             float64 `json:"final_equivalent_age_h"`
+}
+
+// DiffusivityAt is D/D0 per axis at one age, with the formation factor
+// 1/(D/D0) (null where no path conducts) and the chloride estimate
+// D0(Cl⁻)/F per axis, m²/s.
 type DiffusivityAt struct {
-	TimeH     float64    `json:"time_h"`
-	Rel       [3]float64 `json:"rel"`
-	Formation [3]float64 `json:"formation_factor"`
+	TimeH        float64     `json:"time_h"`
+	Rel          [3]float64  `json:"rel"`
+	Formation    [3]*float64 `json:"formation_factor"`
+	ChlorideDEff [3]float64  `json:"chloride_d_eff_m2_per_s"`
 }
 
 func ptr(v float64) *float64 { return &v }
@@ -91,6 +157,8 @@ func ageValues(r []float64) AgeValues {
 	if !math.IsNaN(r[colSolidsFrac]) {
 		a.SolidsConnected, a.PoresConnected = ptr(r[colSolidsFrac]), ptr(r[colPoresFrac])
 	}
+	a.EquivalentAgeH, a.GelSpaceRatio, a.GelPorosity, a.TotalPorosity = r[colEqAge], r[colGelSpace], r[colGelPor], r[colTotPor]
+	a.CHGPer100G, a.BoundWaterGPer100, a.AFtGPer100G, a.AFmGPer100G, a.CSHGPer100G = r[colCH], r[colBoundW], r[colAFt], r[colAFm], r[colCSH]
 	return a
 }
 
@@ -113,15 +181,19 @@ func (h *hydration) summary(m *Mix) *Summary {
 	s.Curing.Mode, s.Curing.TemperatureMode, s.Curing.TemperatureC, s.Curing.UntilH = cfg.Curing.Mode, h.set.Thermal.Mode, cfg.Curing.TemperatureC, cfg.Curing.UntilH
 	s.InitialSolidFractionTarget = m.SolidFraction
 	s.InitialSolidFraction = h.st.InitialSolid
+	s.Bases = Bases{Volumes: VolumeBasis, PerGram: PerGramBasis}
+	s.SetPointNote = SetPointNote
 	if t := h.st.Set; t != nil {
 		s.SetTimeH, s.SetAlpha = ptr(t.TimeH), ptr(t.Alpha)
+		hm := render.HoursMinutes(t.TimeH)
+		s.SetTimeHMin = &hm
 	}
 	if t := h.st.Deperc; t != nil {
 		s.DepercolationTimeH, s.DepercolationPorosity, s.DepercolationAlpha = ptr(t.TimeH), ptr(t.Porosity), ptr(t.Alpha)
 	}
-	for _, d := range []float64{1, 3, 7, 28} {
+	for _, age := range configs.StandardAgesH {
 		for _, r := range h.st.Samples {
-			if math.Abs(r[colTime]-24*d) < 1e-6 {
+			if math.Abs(r[colTime]-age) < 1e-6 {
 				s.AtAge = append(s.AtAge, ageValues(r))
 			}
 		}
@@ -130,13 +202,26 @@ func (h *hydration) summary(m *Mix) *Summary {
 	for k, t := range h.st.DiffAt {
 		d := DiffusivityAt{TimeH: t, Rel: h.st.Diff[k]}
 		for a := range 3 {
-			d.Formation[a] = 1 / d.Rel[a]
-			if d.Rel[a] == 0 {
-				d.Formation[a] = -1 // JSON has no infinity: -1 marks "no conducting path"
+			if d.Rel[a] > 0 {
+				d.Formation[a] = ptr(1 / d.Rel[a]) // JSON has no infinity: null marks "no conducting path"
+				d.ChlorideDEff[a] = ChlorideDEff(1 / d.Rel[a])
 			}
 		}
 		s.RelDiffusivity = append(s.RelDiffusivity, d)
 	}
+	if n := len(h.st.DiffAt); n > 0 {
+		rel := h.st.Diff[n-1]
+		mean := (rel[0] + rel[1] + rel[2]) / 3
+		c := &ChlorideEstimate{TimeH: h.st.DiffAt[n-1], D0M2PerS: ChlorideD0M2PerS, Note: PasteEstimateNote}
+		if mean > 0 {
+			c.FormationFactor, c.DEffM2PerS = ptr(1/mean), ChlorideDEff(1/mean)
+		}
+		s.Chloride = c
+	}
+	s.Calorimetry = calorimetry(h.st.Samples)
+	s.EquivalentAge = EquivalentAgeMethod{ReferenceC: EquivalentAgeRefC, ActivationKJPerMol: cfg.Output.EquivalentAgeEaKJPerMol,
+		Method: "t_e = Σ exp(−E/R (1/T − 1/T_r)) Δt over the sample intervals, T the interval's mean temperature, T_r = 293.15 K (the Arrhenius equivalent-age function of ASTM C1074)",
+		FinalH: h.st.Samples[len(h.st.Samples)-1][colEqAge]}
 	s.Events = h.st.Events
 	s.WallS = h.st.WallS
 	if s.WallS > 0 {
@@ -267,7 +352,7 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *Summary) error {
 	}
 	jobs = append(jobs, func() error {
 		var err error
-		figs, err = render.RenderPlots(series, render.PlotOptions{WC: cfg.Mix.WC, SetTimeH: setH, DepercolationTimeH: depH})
+		figs, err = render.RenderPlots(series, render.PlotOptions{WC: cfg.Mix.WC, SetTimeH: setH, DepercolationTimeH: depH, Calorimetry: calorimetryMarks(sum.Calorimetry)})
 		if err != nil {
 			return err
 		}
@@ -417,6 +502,62 @@ func resultRows(s *render.Series, sum *Summary) []render.Row {
 	for _, d := range sum.RelDiffusivity {
 		rows = append(rows, render.Row{Label: "D/D0 at " + ageLabel(d.TimeH), Value: fmt.Sprintf("x %.3g, y %.3g, z %.3g", d.Rel[0], d.Rel[1], d.Rel[2])})
 	}
+	rows = append(rows, calorimetryRows(sum)...)
+	if c := sum.Chloride; c != nil {
+		v := "no conducting path: 0"
+		if c.FormationFactor != nil {
+			v = fmt.Sprintf("%.3g m²/s (formation factor %.4g)", c.DEffM2PerS, *c.FormationFactor)
+		}
+		rows = append(rows, render.Row{Label: "Chloride D_eff of the paste at " + ageLabel(c.TimeH) + " (paste estimate)", Value: v + "; " + c.Note})
+	}
+	rows = append(rows, render.Row{Label: "Equivalent age at 20 °C at the end", Value: fmt.Sprintf("%.4g h (E = %g kJ/mol, ASTM C1074 Arrhenius function)", sum.EquivalentAge.FinalH, sum.EquivalentAge.ActivationKJPerMol)})
+	f := sum.Final
+	rows = append(rows,
+		render.Row{Label: "Gel–space ratio at the end (Powers)", Value: fmt.Sprintf("%.3f", f.GelSpaceRatio)},
+		render.Row{Label: "Porosity at the end, fraction of the paste", Value: fmt.Sprintf("capillary %.3f, gel %.3f, total %.3f", f.CapillaryPorosity, f.GelPorosity, f.TotalPorosity)},
+		render.Row{Label: "Contents at the end, g per 100 g of cement", Value: fmt.Sprintf("CH %.1f, bound water %.1f (compare TGA); AFt %.1f, AFm %.1f, C-S-H %.1f (compare XRD/Rietveld)", f.CHGPer100G, f.BoundWaterGPer100, f.AFtGPer100G, f.AFmGPer100G, f.CSHGPer100G)},
+	)
 	rows = append(rows, render.Row{Label: "Cost", Value: fmt.Sprintf("%d events in %.1f s", sum.Events, sum.WallS)})
+	return rows
+}
+
+// calorimetryMarks are the landmarks to mark on the calorimetry plot.
+func calorimetryMarks(c Calorimetry) *render.CalorimetryMarks {
+	v := func(p *float64) float64 {
+		if p == nil {
+			return math.NaN()
+		}
+		return *p
+	}
+	return &render.CalorimetryMarks{DormantMinH: v(c.DormantMinTimeH), MainPeakH: v(c.MainPeakTimeH), SulfateDepletionH: v(c.SulfateDepletionH)}
+}
+
+// calorimetryRows are the report's rows of the calorimetry landmarks.
+func calorimetryRows(sum *Summary) []render.Row {
+	c := sum.Calorimetry
+	at := func(t, q *float64, unit string) string {
+		if t == nil {
+			return "not found"
+		}
+		return fmt.Sprintf("%s (%.3g %s)", render.HoursMinutes(*t), *q, unit)
+	}
+	rows := []render.Row{
+		{Label: "Heat flow: dormant minimum", Value: at(c.DormantMinTimeH, c.DormantMinMWPerG, "mW/g")},
+		{Label: "Heat flow: main peak", Value: at(c.MainPeakTimeH, c.MainPeakMWPerG, "mW/g")},
+	}
+	sd := "not found"
+	if c.SulfateDepletionH != nil {
+		sd = fmt.Sprintf("%s (%s)", render.HoursMinutes(*c.SulfateDepletionH), c.SulfateDepletionHow)
+	}
+	rows = append(rows, render.Row{Label: "Heat flow: sulfate depletion", Value: sd})
+	var parts []string
+	for _, h := range c.HeatAt {
+		if h.HeatJPerG != nil {
+			parts = append(parts, fmt.Sprintf("%s %.0f", ageLabel(h.TimeH), *h.HeatJPerG))
+		}
+	}
+	if len(parts) > 0 {
+		rows = append(rows, render.Row{Label: "Cumulative heat, J per g of cement", Value: strings.Join(parts, ", ")})
+	}
 	return rows
 }

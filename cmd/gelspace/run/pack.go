@@ -18,9 +18,9 @@ import (
 func Pack(m *Mix) (*voxel.PackResult, error) {
 	c := m.Cfg
 	n := c.Box.Voxels
-	pops := voxel.Populations(m.Paste, n*n*n, c.Pack.OnePhasePerParticle)
+	pops := voxel.Populations(m.Paste, n*n*n, clinkerGrains(c.Pack))
 	res, err := voxel.Pack(voxel.PackSpec{NX: n, NY: n, NZ: n, VoxelUM: c.Box.VoxelUM, Classes: m.Classes, Pops: pops,
-		GapVoxels: c.Pack.GapVoxels, CorrelationUM: c.Pack.CorrelationUM, Seed: uint64(c.Seed)})
+		SpacingVoxels: c.Pack.SpacingVoxels(c.Box.VoxelUM), DomainUM: c.Pack.PhaseDomainUM, Seed: uint64(c.Seed)})
 	if err != nil {
 		if pe, ok := err.(*voxel.PackError); ok {
 			return nil, &configs.InputError{File: c.Source, Key: "pack", Msg: pe.Msg}
@@ -28,6 +28,14 @@ func Pack(m *Mix) (*voxel.PackResult, error) {
 		return nil, err
 	}
 	return res, nil
+}
+
+// clinkerGrains maps pack.clinker_grains to the packing's mineralogy.
+func clinkerGrains(p configs.Pack) voxel.ClinkerGrains {
+	if p.ClinkerGrains == configs.Monomineral {
+		return voxel.Monomineral
+	}
+	return voxel.Polymineral
 }
 
 // SolidFraction is the volume fraction of solid voxels in g, 0–1.
@@ -79,7 +87,7 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 	n := float64(g.Len())
 	cnt := g.Count()
 	c := m.Cfg
-	pops := voxel.Populations(m.Paste, g.Len(), c.Pack.OnePhasePerParticle)
+	pops := voxel.Populations(m.Paste, g.Len(), clinkerGrains(c.Pack))
 	rep := PackReport{Version: Version, Seed: c.Seed, Mix: m.Report(), Pack: c.Pack, Voxels: [3]int{g.NX, g.NY, g.NZ},
 		VoxelUM: g.VoxelUM, SolidTarget: m.SolidFraction, SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
 		SurfaceVoxel: voxel.SpecificSurfaceM2PerKg(g), Attempts: res.Attempts, Scans: res.Scans, WallS: wall,
@@ -90,10 +98,10 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 			"target_fraction":   "phase volume fraction of the fresh paste from the mass fractions, the phase densities and w/c",
 			"fines":             "the powder finer than one voxel is merged into the 1-voxel class",
 			"truncation":        "particles are at most half the box edge; the coarser tail is left out and the rest scaled up",
-			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box; voxel faces overstate smooth-sphere area",
+			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box, m² per kg of powder; voxel faces overstate the surface from the PSD (smooth spheres), and neither is a Blaine fineness",
 			"packed_median":     "volume-weighted median of the particles' class diameters",
 			"particle_ids":      "1, 2, … in placement order (largest first); 0 is the original water space",
-			"phase_assignments": "clinker grains are shared among C3S, C2S, C3A and C4AF by a periodic value-noise field with cells of pack.correlation_um and exact quantile thresholds, unless pack.one_phase_per_particle",
+			"phase_assignments": "clinker grains are shared among C3S, C2S, C3A and C4AF by a periodic value-noise field with cells of pack.phase_domain_um and exact quantile thresholds, unless pack.clinker_grains = \"monomineral\"",
 		}}
 	for _, p := range pops {
 		for k, id := range p.Phases {
