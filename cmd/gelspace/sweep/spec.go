@@ -7,7 +7,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -396,9 +395,9 @@ func (s *Spec) Points(sets []string) ([]Point, error) {
 			return nil, err
 		}
 	} else {
-		data, err := os.ReadFile(s.Base)
+		data, err := configs.ReadInput(s.Base, "base config")
 		if err != nil {
-			return nil, &configs.InputError{File: s.File, Key: "base", Msg: fmt.Sprintf("cannot read the base config %s: %v", s.Base, err)}
+			return nil, &configs.InputError{File: s.File, Key: "base", Msg: err.Error()}
 		}
 		baseData, baseName, baseDir = data, s.Base, filepath.Dir(s.Base)
 	}
