@@ -1,9 +1,7 @@
 package configs
 
 import (
-	"errors"
 	"fmt"
-	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
@@ -227,18 +225,11 @@ func LoadRaw(path string) (*Raw, error) {
 	return ParseRaw(path, filepath.Dir(path), data)
 }
 
-// ReadInput reads an input file; a failure is an InputError that says
-// what the file was for ("config", "sweep file").
+// ReadInput reads an input file of at most MaxInputBytes (see
+// ReadLimited); a failure is an InputError that says what the file was
+// for ("config", "sweep file").
 func ReadInput(path, what string) ([]byte, error) {
-	data, err := os.ReadFile(path)
-	if err != nil {
-		msg := err.Error()
-		if errors.Is(err, fs.ErrNotExist) {
-			msg = "no such file"
-		}
-		return nil, &InputError{File: path, Msg: "cannot read " + what + ": " + msg}
-	}
-	return data, nil
+	return ReadLimited(path, what, MaxInputBytes)
 }
 
 // Allowed ranges, checked by Validate.
@@ -263,6 +254,9 @@ const (
 // the allowed range.
 func (c *Config) Validate() error {
 	r := c.located()
+	if err := c.checkNumbers(); err != nil {
+		return err
+	}
 	if c.Seed < 0 {
 		return r.errAt("seed", "%d: must be ≥ 0", c.Seed)
 	}

@@ -1,10 +1,11 @@
 package configs
 
 import (
+	"bytes"
 	"encoding/csv"
 	"fmt"
 	"io"
-	"os"
+	"math"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -132,7 +133,7 @@ func (cfg *Config) EngineSettings() (voxel.EngineSettings, error) {
 		if msg == "" {
 			key, msg, _ = strings.Cut(err.Error(), ": ")
 		}
-		return voxel.EngineSettings{}, r.errAt(key, "%s", msg)
+		return voxel.EngineSettings{}, r.errAt(kineticsKey(key), "%s", msg)
 	}
 	th := kinetics.Thermal{Mode: cfg.Curing.TemperatureMode, TempC: cfg.Curing.TemperatureC}
 	switch th.Mode {
@@ -172,12 +173,11 @@ func (cfg *Config) EngineSettings() (voxel.EngineSettings, error) {
 // readSchedule reads a temperature schedule: CSV with a header row naming
 // time_h and temperature_c, then rows with increasing time_h.
 func readSchedule(path string) ([]kinetics.SchedulePoint, error) {
-	f, err := os.Open(path)
+	data, err := ReadInput(path, "temperature schedule")
 	if err != nil {
-		return nil, fmt.Errorf("cannot read %s: %v", path, err)
+		return nil, err
 	}
-	defer f.Close()
-	return parseSchedule(path, f)
+	return parseSchedule(path, bytes.NewReader(data))
 }
 
 func parseSchedule(name string, r io.Reader) ([]kinetics.SchedulePoint, error) {
@@ -198,7 +198,7 @@ func parseSchedule(name string, r io.Reader) ([]kinetics.SchedulePoint, error) {
 		}
 	}
 	if ti < 0 || ci < 0 {
-		return nil, fmt.Errorf("%s: header %q must name time_h and temperature_c", name, strings.Join(head, ","))
+		return nil, fmt.Errorf("%s: header %s must name time_h and temperature_c", name, Snippet(strings.Join(head, ",")))
 	}
 	var out []kinetics.SchedulePoint
 	for line := 2; ; line++ {
@@ -216,6 +216,12 @@ func parseSchedule(name string, r io.Reader) ([]kinetics.SchedulePoint, error) {
 		c, err2 := strconv.ParseFloat(strings.TrimSpace(rec[ci]), 64)
 		if err1 != nil || err2 != nil {
 			return nil, fmt.Errorf("%s: line %d: time_h and temperature_c must be numbers", name, line)
+		}
+		if math.IsNaN(t) || math.IsInf(t, 0) || math.IsNaN(c) || math.IsInf(c, 0) {
+			return nil, fmt.Errorf("%s: line %d: time_h and temperature_c must be finite numbers", name, line)
+		}
+		if t > MaxUntilH {
+			return nil, fmt.Errorf("%s: line %d: time_h = %g must be ≤ %g", name, line, t, MaxUntilH)
 		}
 		if t < 0 || (len(out) > 0 && t <= out[len(out)-1].TimeH) {
 			return nil, fmt.Errorf("%s: line %d: time_h = %g must be ≥ 0 and increase from row to row", name, line, t)

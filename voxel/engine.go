@@ -58,7 +58,18 @@ type Engine struct {
 	// partInit is the number of anhydrous voxels of each grain at the start,
 	// by particle id.
 	partInit []int32
+	// guard, when set, is called every GuardEvery events (see SetGuard).
+	guard func(events uint64, timeS float64) error
 }
+
+// GuardEvery is how often, in events, AdvanceTo calls the guard.
+const GuardEvery = 1 << 16
+
+// SetGuard makes AdvanceTo call f with the event count and the clock (s)
+// every GuardEvery events and stop with f's error, so that a caller can
+// end a run whose clock no longer advances. Clones share it; checkpoints
+// do not keep it.
+func (e *Engine) SetGuard(f func(events uint64, timeS float64) error) { e.guard = f }
 
 // state is everything that changes during a run apart from the lattice and
 // the class sets; it is saved whole in checkpoints.

@@ -43,6 +43,11 @@ func (e *Engine) AdvanceTo(untilH float64) error {
 			return err
 		}
 		e.s.Events++
+		if e.guard != nil && e.s.Events%GuardEvery == 0 {
+			if err := e.guard(e.s.Events, e.s.TimeS); err != nil {
+				return err
+			}
+		}
 	}
 	return nil
 }

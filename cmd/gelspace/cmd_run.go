@@ -1,12 +1,10 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"time"
@@ -26,6 +24,7 @@ type runOpts struct {
 	until           float64
 	checkpointEvery string
 	noRender        bool
+	force           bool
 }
 
 func runCommand() *command {
@@ -48,6 +47,7 @@ func runCommand() *command {
 			fs.Float64Var(&o.until, "until", 0, "stop at this age in hours (overrides curing.until_h; output ages past it are dropped and listed)")
 			fs.StringVar(&o.checkpointEvery, "checkpoint-every", "", "save a checkpoint every N simulated hours (24h) or wall-clock minutes (10m)")
 			fs.BoolVar(&o.noRender, "no-render", false, "skip slice images, plots and report")
+			fs.BoolVar(&o.force, "force", false, "replace the outputs of another run in --out (without it such a folder is refused)")
 			addConfigFlags(fs, &o.configFlags)
 			return o
 		},
@@ -87,24 +87,25 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 		err error
 	)
 	if o.resume != "" {
-		if fs.NArg() > 0 || fs.Changed("set") || fs.Changed("seed") || fs.Changed("size") || fs.Changed("until") || fs.Changed("from") {
-			return &usageError{"run: --resume takes the folder only; the config and flags are those the run started with"}
+		for _, f := range []string{"set", "seed", "size", "until", "from", "out", "no-render", "force"} {
+			if fs.Changed(f) {
+				return &usageError{fmt.Sprintf("run: --resume takes the folder only, not --%s: the config and options are those the run started with", f)}
+			}
 		}
-		data, err := os.ReadFile(filepath.Join(o.resume, run.ManifestFile))
+		if fs.NArg() > 0 {
+			return &usageError{"run: --resume takes the folder only, not a CONFIG: the config and options are those the run started with"}
+		}
+		m, err := run.ReadManifest(o.resume)
 		if err != nil {
-			return &configs.InputError{File: filepath.Join(o.resume, run.ManifestFile), Msg: "cannot read the run manifest: is this a gelspace run folder?"}
+			return err
 		}
-		if err := json.Unmarshal(data, &man); err != nil {
-			return &configs.InputError{File: filepath.Join(o.resume, run.ManifestFile), Msg: "malformed run manifest: " + err.Error()}
-		}
-		if man.Version != run.Version {
-			return &configs.InputError{File: filepath.Join(o.resume, run.ManifestFile), Msg: fmt.Sprintf("written by gelspace %s; this is %s: resume with the same version", man.Version, version)}
-		}
+		man = *m
 		if cfg, err = run.ConfigFromManifest(man.ConfigName, man.ConfigDir, []byte(man.ConfigText), man.Sets); err != nil {
 			return err
 		}
 		o.out = o.resume
 		o.from = man.From
+		o.noRender = man.NoRender
 		if !fs.Changed("checkpoint-every") {
 			o.checkpointEvery = man.CheckpointEvery
 		}
@@ -112,8 +113,8 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 		if fs.Changed("until") {
 			// --until shortens the run: the output ages beyond it are
 			// dropped when the config is loaded (Config.DroppedAgesH).
-			if !(o.until > 0) {
-				return &usageError{fmt.Sprintf("run: --until %g: must be > 0 hours", o.until)}
+			if !(o.until > 0 && o.until <= configs.MaxUntilH) {
+				return &usageError{fmt.Sprintf("run: --until %g: must be > 0 and ≤ %g hours", o.until, configs.MaxUntilH)}
 			}
 			o.sets = append(o.sets, fmt.Sprintf("curing.until_h=%g", o.until))
 		}
@@ -125,13 +126,13 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 			return err
 		}
 		man = *m
-		man.From, man.CheckpointEvery = o.from, o.checkpointEvery
+		man.From, man.CheckpointEvery, man.NoRender = o.from, o.checkpointEvery, o.noRender
 	}
 	policy, err := parseCheckpointEvery(o.checkpointEvery)
 	if err != nil {
 		return err
 	}
-	if err := run.CheckMemory(cfg); err != nil {
+	if err := runMemory(cfg, fs.Changed("size")); err != nil {
 		return err
 	}
 	if o.out == "" {
@@ -140,7 +141,7 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
 		return &usageError{fmt.Sprintf("run: --out %s exists and is not a folder", o.out)}
 	}
-	opts := run.Options{Out: o.out, From: o.from, Resume: o.resume != "", Checkpoint: policy,
+	opts := run.Options{Out: o.out, From: o.from, Resume: o.resume != "", Force: o.force, Checkpoint: policy,
 		Images: !o.noRender, Manifest: &man, AfterCheckpoint: afterCheckpoint}
 	var bar *progressbar.ProgressBar
 	if !o.quiet {

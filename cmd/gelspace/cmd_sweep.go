@@ -19,6 +19,7 @@ type sweepOpts struct {
 	out    string
 	jobs   int
 	images bool
+	force  bool
 	sets   []string
 	size   int
 	quiet  bool
@@ -55,6 +56,7 @@ and 95 % CI per point, Student t), plots/, points/pNNNN_rR/ (each run's config a
 			fs.StringArrayVar(&o.sets, "set", nil, "override a key of the base config for every point: --set KEY=VALUE (repeatable)")
 			fs.IntVar(&o.size, "size", 0, "box edge in voxels for every point (overrides box.voxels)")
 			fs.BoolVarP(&o.quiet, "quiet", "q", false, "print nothing but errors")
+			fs.BoolVar(&o.force, "force", false, "take over an --out folder made from another sweep file")
 			return o
 		},
 		run: func(opts any, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
@@ -111,7 +113,7 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 		return &usageError{fmt.Sprintf("sweep: --out %s exists and is not a folder", o.out)}
 	}
 	pl := sweep.NewPlan(spec, pts, o.images)
-	if err := sweep.WritePlan(o.out, pl, pts); err != nil {
+	if err := sweep.WritePlanForce(o.out, pl, pts, o.force); err != nil {
 		return err
 	}
 	if err := sweep.WriteSchedulerFiles(o.out, pl); err != nil {

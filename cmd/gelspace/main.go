@@ -91,7 +91,7 @@ func fail(stderr io.Writer, err error) int {
 	if err == nil {
 		return 0
 	}
-	fmt.Fprintln(stderr, "gelspace: "+strings.ReplaceAll(err.Error(), "\n", " "))
+	fmt.Fprintln(stderr, "gelspace: "+oneLine(err.Error()))
 	return exitCode(err)
 }
 
@@ -186,6 +186,9 @@ func (o *configFlags) load(fs *pflag.FlagSet, cmd string) (*configs.Config, erro
 		sets = append(sets, fmt.Sprintf("seed=%d", o.seed))
 	}
 	if fs.Changed("size") {
+		if err := checkSize(cmd, o.size); err != nil {
+			return nil, err
+		}
 		sets = append(sets, fmt.Sprintf("box.voxels=%d", o.size))
 	}
 	return configs.Load(fs.Arg(0), sets)

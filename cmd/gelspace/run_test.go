@@ -156,7 +156,7 @@ func TestRunBadInputs(t *testing.T) {
 		{"bad sample interval", [2]string{"times_h = [1, 2, 4, 8, 12, 24]", "times_h = [1, 2, 4, 8, 12, 24]\nsample_every_h = 0"}, nil,
 			[]string{"output.sample_every_h", "between 0.01 and 24"}},
 		{"run too large for memory", [2]string{}, []string{"--size", "1000"},
-			[]string{"cfg.toml", "box.voxels", "needs about", "GB", "at most"}},
+			[]string{"--size", "needs about", "GB", "at most"}},
 		{"bad checkpoint interval", [2]string{}, []string{"--checkpoint-every", "often"},
 			[]string{"--checkpoint-every", "24h", "10m"}},
 		{"resume a folder that is no run", [2]string{}, []string{"--resume", notRun},

@@ -1,12 +1,11 @@
 package fit
 
 import (
+	"bytes"
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"slices"
 	"strconv"
 	"strings"
@@ -47,16 +46,11 @@ type Measured struct {
 // starting with # are comments). Errors are *configs.InputError naming the file
 // and the line.
 func ReadMeasured(path string) (*Measured, error) {
-	f, err := os.Open(path)
+	data, err := configs.ReadInput(path, "measured curve")
 	if err != nil {
-		msg := err.Error()
-		if errors.Is(err, os.ErrNotExist) {
-			msg = "no such file"
-		}
-		return nil, &configs.InputError{File: path, Msg: "cannot read measured curve: " + msg}
+		return nil, err
 	}
-	defer f.Close()
-	return ParseMeasured(path, f)
+	return ParseMeasured(path, bytes.NewReader(data))
 }
 
 // ParseMeasured reads a measured curve from r, as ReadMeasured does;
@@ -78,7 +72,7 @@ func ParseMeasured(name string, r io.Reader) (*Measured, error) {
 	c := &Measured{File: name}
 	cols := map[string]int{}
 	for i, h := range head {
-		cols[strings.TrimSpace(strings.ToLower(h))] = i
+		cols[strings.TrimSpace(strings.ToLower(strings.TrimPrefix(h, "\ufeff")))] = i
 	}
 	ti, okT := cols["time_h"]
 	for _, k := range []string{KindHeat, KindAlpha, KindFlow} {
@@ -88,7 +82,7 @@ func ParseMeasured(name string, r io.Reader) (*Measured, error) {
 		}
 	}
 	if !okT || vi < 0 {
-		return nil, bad(headLine, "header %q: want time_h and one of %s (cumulative, J/g), %s (mW/g) or %s (degree of hydration)", strings.Join(head, ","), KindHeat, KindFlow, KindAlpha)
+		return nil, bad(headLine, "header %s: want time_h and one of %s (cumulative, J/g), %s (mW/g) or %s (degree of hydration)", configs.Snippet(strings.Join(head, ",")), KindHeat, KindFlow, KindAlpha)
 	}
 	var raw []float64
 	for {

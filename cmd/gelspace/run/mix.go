@@ -1,10 +1,12 @@
 package run
 
 import (
+	"bytes"
 	"encoding/json"
 	"io"
-	"os"
 	"path/filepath"
+	"strings"
+	"unicode/utf8"
 
 	"gelspace/configs"
 	"gelspace/kinetics"
@@ -58,14 +60,13 @@ func Resolve(cfg *configs.Config) (*Mix, error) {
 		if !filepath.IsAbs(path) {
 			path = filepath.Join(cfg.Dir, path)
 		}
-		f, err := os.Open(path)
+		data, err := configs.ReadInput(path, "PSD table")
 		if err != nil {
-			return nil, cfg.Errorf("psd.table", "cannot read %s: %v", path, err)
+			return nil, cfg.Errorf("psd.table", "%v", err)
 		}
-		m.PSD, err = voxel.ReadPSDTable(f)
-		f.Close()
+		m.PSD, err = voxel.ReadPSDTable(bytes.NewReader(data))
 		if err != nil {
-			return nil, cfg.Errorf("psd.table", "%s: %v", path, err)
+			return nil, cfg.Errorf("psd.table", "%s: %s", path, clip(err.Error()))
 		}
 	}
 	if m.Classes, err = m.PSD.Classes(cfg.Box.VoxelUM, cfg.Box.Voxels); err != nil {
@@ -158,4 +159,18 @@ func WriteJSON(w io.Writer, v any) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)
+}
+
+// clip shortens a message about untrusted input to one escaped line of at
+// most 200 characters.
+func clip(msg string) string {
+	if len(msg) > 200 {
+		msg = msg[:200] + "…"
+	}
+	return strings.Map(func(r rune) rune {
+		if r < 0x20 || r == 0x7f || r == utf8.RuneError {
+			return '?'
+		}
+		return r
+	}, msg)
 }

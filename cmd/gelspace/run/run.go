@@ -34,6 +34,11 @@ type Manifest struct {
 	Sets            []string `json:"sets"`
 	From            string   `json:"from,omitempty"`
 	CheckpointEvery string   `json:"checkpoint_every,omitempty"`
+	// NoRender: the run writes tables and volumes only (kept by --resume).
+	NoRender bool `json:"no_render,omitempty"`
+	// Complete is set when every output of the run is written; a folder
+	// whose run.json says false holds an unfinished run.
+	Complete bool `json:"complete"`
 }
 
 // CheckpointPolicy says when a run saves a checkpoint: every SimH
@@ -59,22 +64,26 @@ const (
 // would not fit in the memory available (a *configs.InputError on
 // box.voxels).
 func CheckMemory(cfg *configs.Config) error {
-	n := float64(cfg.Box.Voxels)
-	per := float64(runBytesPerVoxel)
-	if cfg.Output.Diffusivity {
-		per += diffBytesPerVoxel
-	}
-	need, avail := n*n*n*per, float64(configs.AvailableBytes())
-	if need > avail {
-		max := int(math.Cbrt(avail / per))
-		line := 0
-		if cfg.Raw() != nil {
-			line = cfg.Raw().Line("box.voxels")
-		}
-		return &configs.InputError{File: cfg.Source, Line: line, Key: "box.voxels",
-			Msg: fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here (or set output.diffusivity = false)", cfg.Box.Voxels, cfg.Box.Voxels, need/1e9, avail/1e9, max)}
+	if msg := MemoryShortfall(cfg.Box.Voxels, cfg.Output.Diffusivity); msg != "" {
+		return cfg.Errorf("box.voxels", "%s", msg)
 	}
 	return nil
+}
+
+// MemoryShortfall returns, when a run of an n³ box would not fit in the
+// memory available, the message saying so ("" when it fits).
+func MemoryShortfall(n int, diffusivity bool) string {
+	per := float64(runBytesPerVoxel)
+	if diffusivity {
+		per += diffBytesPerVoxel
+	}
+	nf := float64(n)
+	need, avail := nf*nf*nf*per, float64(configs.AvailableBytes())
+	if need <= avail {
+		return ""
+	}
+	max := int(math.Cbrt(avail / per))
+	return fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here (or set output.diffusivity = false)", n, n, need/1e9, avail/1e9, max)
 }
 
 // Options steer Run. The zero value packs a new box from the config,
@@ -86,8 +95,13 @@ type Options struct {
 	// From names a folder holding a saved pack (pack.vti, as gelspace
 	// pack writes it) to hydrate instead of packing anew; "" packs.
 	From string
-	// Resume continues the stopped run in Out from its checkpoint.
+	// Resume continues the stopped run in Out from its checkpoint, or
+	// starts it again when it stopped before its first one; a run already
+	// complete is an error.
 	Resume bool
+	// Force lets a new run replace the outputs of another run in Out;
+	// without it such a folder is refused.
+	Force bool
 	// Checkpoint says when to save a checkpoint; the zero value never
 	// does.
 	Checkpoint CheckpointPolicy
@@ -107,6 +121,10 @@ type Options struct {
 	// saved; an error from it stops the run there, as a kill would (tests
 	// use it).
 	AfterCheckpoint func() error
+	// AfterOutputs, when not nil, is called when every output is written,
+	// before the run is marked complete; an error from it stops the run
+	// there (tests use it).
+	AfterOutputs func() error
 }
 
 // Progress is the state of a running hydration, passed to
@@ -164,6 +182,7 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 		if man, err = NewManifest(cfg); err != nil {
 			return nil, err
 		}
+		man.From, man.NoRender = o.From, !o.Images
 	}
 	m, err := Resolve(cfg)
 	if err != nil {
@@ -175,23 +194,33 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 	}
 	start := time.Now()
 	var h *hydration
+	resumed := false
 	if o.Resume {
-		path := filepath.Join(o.Out, CheckpointFile)
-		f, err := os.Open(path)
+		if _, err := os.Stat(filepath.Join(o.Out, ManifestFile)); err != nil {
+			return nil, &configs.InputError{File: o.Out, Msg: "no run to resume here (no run.json)"}
+		}
+		if man.Complete {
+			return nil, &configs.InputError{File: filepath.Join(o.Out, ManifestFile), Msg: "the run is complete: nothing to resume"}
+		}
+		e, extra, ok, err := readResumeState(o.Out, cfg, man, set)
 		if err != nil {
-			return nil, &configs.InputError{File: path, Msg: "no checkpoint to resume from (the run finished, or never saved one)"}
+			return nil, err
 		}
-		e, extra, err := voxel.ReadCheckpoint(f, set)
-		f.Close()
-		if err != nil {
-			return nil, &configs.InputError{File: path, Msg: err.Error()}
+		if ok {
+			h = newHydration(cfg, set, e)
+			h.workers = o.Workers
+			if err := h.unmarshalState(extra); err != nil {
+				return nil, &configs.InputError{File: filepath.Join(o.Out, CheckpointFile), Msg: "checkpoint progress record: " + err.Error()}
+			}
+			resumed = true
+			if err := removeTemps(o.Out); err != nil {
+				return nil, err
+			}
 		}
-		h = newHydration(cfg, set, e)
-		h.workers = o.Workers
-		if err := h.unmarshalState(extra); err != nil {
-			return nil, &configs.InputError{File: path, Msg: "checkpoint progress record: " + err.Error()}
-		}
-	} else {
+	} else if err := prepareOut(o.Out, o.Force); err != nil {
+		return nil, err
+	}
+	if !resumed {
 		var g *voxel.Grid
 		if o.From != "" {
 			path := filepath.Join(o.From, "pack.vti")
@@ -200,6 +229,9 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 			}
 			if g.NX != cfg.Box.Voxels || g.NY != cfg.Box.Voxels || g.NZ != cfg.Box.Voxels || g.VoxelUM != cfg.Box.VoxelUM {
 				return nil, &configs.InputError{File: path, Key: "box", Msg: fmt.Sprintf("the pack is %d×%d×%d voxels of %g µm, the config says %d³ of %g µm: use the config the pack was made with", g.NX, g.NY, g.NZ, g.VoxelUM, cfg.Box.Voxels, cfg.Box.VoxelUM)}
+			}
+			if err := checkPackMix(o.From, m); err != nil {
+				return nil, err
 			}
 		} else {
 			res, err := Pack(m)
@@ -220,10 +252,21 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 		if err := os.MkdirAll(o.Out, 0o755); err != nil {
 			return nil, err
 		}
+		if o.Resume {
+			// Started again from the beginning: no stale checkpoint or
+			// temporary file may survive.
+			os.Remove(filepath.Join(o.Out, CheckpointFile))
+			if err := removeTemps(o.Out); err != nil {
+				return nil, err
+			}
+		}
+		man.Complete = false
 		if err := render.WriteFileAtomic(filepath.Join(o.Out, ManifestFile), func(w io.Writer) error { return WriteJSON(w, man) }); err != nil {
 			return nil, err
 		}
 	}
+	id := identity(cfg, man)
+	guardEngine(h.e, MaxEventsPerVoxelS)
 	policy := o.Checkpoint
 	lastCk, lastWall := h.e.TimeH(), time.Now()
 	for {
@@ -242,7 +285,7 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 		if due && h.st.Next < len(h.ages) {
 			h.st.WallS += time.Since(start).Seconds()
 			start = time.Now()
-			if err := saveCheckpoint(o.Out, h); err != nil {
+			if err := saveCheckpoint(o.Out, h, id); err != nil {
 				return nil, err
 			}
 			lastCk, lastWall = h.e.TimeH(), time.Now()
@@ -254,18 +297,45 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 		}
 	}
 	h.st.WallS += time.Since(start).Seconds()
+	if policy.SimH > 0 || policy.Wall > 0 {
+		// A stop while the outputs are written resumes from here.
+		if err := saveCheckpoint(o.Out, h, id); err != nil {
+			return nil, err
+		}
+		if o.AfterCheckpoint != nil {
+			if err := o.AfterCheckpoint(); err != nil {
+				return nil, err
+			}
+		}
+	}
 	if err := writeRunOutputs(o.Out, m, h, o.Images); err != nil {
 		return nil, err
 	}
+	if o.AfterOutputs != nil {
+		if err := o.AfterOutputs(); err != nil {
+			return nil, err
+		}
+	}
+	man.Complete = true
+	if err := render.WriteFileAtomic(filepath.Join(o.Out, ManifestFile), func(w io.Writer) error { return WriteJSON(w, man) }); err != nil {
+		return nil, err
+	}
 	os.Remove(filepath.Join(o.Out, CheckpointFile))
+	if err := removeTemps(o.Out); err != nil {
+		return nil, err
+	}
 	last := h.st.Samples[len(h.st.Samples)-1]
 	return &Result{TimeH: last[colTime], Alpha: last[colAlpha], HeatJPerG: last[colHeat], CapillaryPorosity: last[colCapPor],
 		Set: h.st.Set, Depercolation: h.st.Deperc, WallS: h.st.WallS}, nil
 }
 
 // saveCheckpoint writes the engine and the run's progress atomically.
-func saveCheckpoint(dir string, h *hydration) error {
-	extra, err := h.marshalState()
+func saveCheckpoint(dir string, h *hydration, id Identity) error {
+	state, err := h.marshalState()
+	if err != nil {
+		return err
+	}
+	extra, err := wrapState(id, state)
 	if err != nil {
 		return err
 	}

@@ -98,10 +98,33 @@ func NewPlan(s *Spec, pts []Point, images bool) *Plan {
 // config.toml (rewritten only when it changed, so a complete point keeps
 // its marker valid).
 func WritePlan(dir string, pl *Plan, pts []Point) error {
+	return WritePlanForce(dir, pl, pts, false)
+}
+
+// WritePlanForce is WritePlan; with force, a folder made from another
+// sweep file is taken over: the point folders not in the new plan are
+// removed and the others rerun where their config changed.
+func WritePlanForce(dir string, pl *Plan, pts []Point, force bool) error {
+	if old, err := ReadPlan(dir); err == nil && old.Sweep != "" {
+		if !force && (filepath.Base(old.Sweep) != filepath.Base(pl.Sweep) || old.Name != pl.Name) {
+			return &configs.InputError{File: dir, Msg: fmt.Sprintf("folder holds a sweep made from another sweep file (%s); use --force to replace it, or another --out", configs.Snippet(filepath.Base(old.Sweep)))}
+		}
+		if force {
+			keep := map[string]bool{}
+			for _, p := range pts {
+				keep[p.Name] = true
+			}
+			for _, p := range old.Points {
+				if !keep[p.Name] && p.Name != "" && !strings.ContainsAny(p.Name, `/\`) {
+					os.RemoveAll(filepath.Join(dir, PointsDir, p.Name))
+				}
+			}
+		}
+	}
 	if err := os.MkdirAll(filepath.Join(dir, PointsDir), 0o755); err != nil {
 		return err
 	}
-	if old, err := ReadPlan(dir); err == nil && old.Sweep != "" {
+	if old, err := ReadPlan(dir); err == nil && old.Sweep != "" && !force {
 		// A folder of another sweep is refused rather than mixed.
 		if len(old.Axes) != len(pl.Axes) {
 			return &configs.InputError{Msg: fmt.Sprintf("sweep: %s holds a sweep with other axes (%s); use another --out", dir, axisKeys(old))}
@@ -196,7 +219,7 @@ func runPoint(pd string, images bool) error {
 	if err != nil {
 		return err
 	}
-	if _, err := run.Run(cfg, run.Options{Out: pd, Images: images}); err != nil {
+	if _, err := run.Run(cfg, run.Options{Out: pd, Images: images, Force: true}); err != nil {
 		return err
 	}
 	return writeMarker(pd, time.Since(start).Seconds())

@@ -7,7 +7,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
 	"strconv"
@@ -225,6 +224,13 @@ func Parse(path string, data []byte) (*Spec, error) {
 			return nil, at(strings.Join(k, "."), "unknown key (known keys: base, replicates, name, set, axes, zip)")
 		}
 	}
+	for _, f := range s.Fixed {
+		for _, a := range s.Axes {
+			if a.Key == f.Key {
+				return nil, at("set."+f.Key, "also swept in [%s] (line %d): give each config key once", a.Table, a.Line)
+			}
+		}
+	}
 	if len(s.Axes) == 0 && s.Replicates == 1 {
 		return nil, &configs.InputError{File: path, Key: "axes", Msg: "nothing to sweep: give [axes] (config keys with lists or ranges) or replicates > 1"}
 	}
@@ -396,9 +402,9 @@ func (s *Spec) Points(sets []string) ([]Point, error) {
 			return nil, err
 		}
 	} else {
-		data, err := os.ReadFile(s.Base)
+		data, err := configs.ReadInput(s.Base, "base config")
 		if err != nil {
-			return nil, &configs.InputError{File: s.File, Key: "base", Msg: fmt.Sprintf("cannot read the base config %s: %v", s.Base, err)}
+			return nil, &configs.InputError{File: s.File, Key: "base", Msg: err.Error()}
 		}
 		baseData, baseName, baseDir = data, s.Base, filepath.Dir(s.Base)
 	}

@@ -144,8 +144,7 @@ func Collect(dir string, pl *Plan) ([]Row, error) {
 // finishedByRun reports whether gelspace run finished the point folder
 // with its present config: every output written (phases.csv is the last
 // without images, report.html the last with them), no checkpoint left,
-// the summary no older than run.json, and run.json's config equal to
-// config.toml's.
+// run.json marked complete, and run.json's config equal to config.toml's.
 func finishedByRun(pd string) bool {
 	last := "phases.csv"
 	if fileExists(filepath.Join(pd, "report.html")) || fileExists(filepath.Join(pd, "slices")) {
@@ -159,17 +158,12 @@ func finishedByRun(pd string) bool {
 	if fileExists(filepath.Join(pd, run.CheckpointFile)) {
 		return false
 	}
-	ms, err1 := os.Stat(filepath.Join(pd, run.ManifestFile))
-	ss, err2 := os.Stat(filepath.Join(pd, "summary.json"))
-	if err1 != nil || err2 != nil || ss.ModTime().Before(ms.ModTime()) {
-		return false
-	}
 	data, err := os.ReadFile(filepath.Join(pd, run.ManifestFile))
 	if err != nil {
 		return false
 	}
 	var man run.Manifest
-	if json.Unmarshal(data, &man) != nil || man.Version != run.Version {
+	if json.Unmarshal(data, &man) != nil || man.Version != run.Version || !man.Complete {
 		return false
 	}
 	raw, err := configs.LoadRaw(filepath.Join(pd, PointConfigFile))
