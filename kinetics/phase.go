@@ -175,9 +175,9 @@ var phases = []Phase{
 	// 285 cm³/mol; molar masses from the formulas (CaO 56.077, Al2O3 101.96,
 	// CO2 44.01, H2O 18.015); densities M/Vm. Bound water on D-drying about
 	// 6 H2O for both (from memory, rough). MeanZ from the formulas.
-	{ID: Monocarbonate, Key: "monocarbonate", Name: "monocarbonate (C4AC̄H11)", Role: RoleHydrate, DensityGPerCM3: 568.44 / 262, MolarMassGPerMol: 568.44, BoundWaterMol: 6, MeanZ: 11.54,
+	{ID: Monocarbonate, Key: "monocarbonate", Name: "monocarbonate (Mc)", Role: RoleHydrate, DensityGPerCM3: 568.44 / 262, MolarMassGPerMol: 568.44, BoundWaterMol: 6, MeanZ: 11.54,
 		Colour: color.RGBA{0x76, 0xc1, 0x00, 0xff}},
-	{ID: Hemicarbonate, Key: "hemicarbonate", Name: "hemicarbonate (C4AC̄0.5H12)", Role: RoleHydrate, DensityGPerCM3: 564.45 / 285, MolarMassGPerMol: 564.45, BoundWaterMol: 6, MeanZ: 11.56,
+	{ID: Hemicarbonate, Key: "hemicarbonate", Name: "hemicarbonate (Hc)", Role: RoleHydrate, DensityGPerCM3: 564.45 / 285, MolarMassGPerMol: 564.45, BoundWaterMol: 6, MeanZ: 11.56,
 		Colour: color.RGBA{0xc6, 0xfe, 0xda, 0xff}},
 	{ID: Hydrogarnet, Key: "hydrogarnet", Name: "hydrogarnet (C3AH6)", Role: RoleHydrate, DensityGPerCM3: 2.52, MolarMassGPerMol: 378.3, BoundWaterMol: 6, MeanZ: 12.30,
 		Colour: color.RGBA{0x00, 0x43, 0x56, 0xff}},

@@ -52,8 +52,8 @@ func layers(box Box, vals []float64) (d []float64, arith, harm float64) {
 	return d, arith, harm
 }
 
-// TestDiffusivityLayers checks the exact cases of layered media (REFERENCES.md:
-// exact, textbook): layers parallel to the field conduct as the arithmetic
+// TestDiffusivityLayers checks the exact cases of layered media (an exact
+// textbook result): layers parallel to the field conduct as the arithmetic
 // mean of the layer diffusivities, layers in series as the harmonic mean.
 // Both boundary modes are checked: periodic along z, and open along z
 // with electrodes on the z faces.
@@ -105,7 +105,7 @@ func TestDiffusivityLayers(t *testing.T) {
 
 // TestDiffusivityMaxwell checks one insulating sphere in a periodic 48³
 // box against Maxwell's dilute limit σ/σ0 = (1 − f)/(1 + f/2) (Maxwell
-// 1873, REFERENCES.md: exact to first order in f), with f the digitised
+// 1873: exact to first order in f), with f the digitised
 // sphere's voxel fraction, within 2 %.
 func TestDiffusivityMaxwell(t *testing.T) {
 	const L = 48

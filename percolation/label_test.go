@@ -246,7 +246,7 @@ func TestLabelPanicsOnLength(t *testing.T) {
 // site percolation on an open simple cubic lattice, L = 48, spanning along
 // z (the face z = 0 joined to z = L−1), against the threshold
 // p_c = 0.3116077 of Wang, Zhou, Zhang, Garoni & Deng, Phys. Rev. E 87
-// (2013) 052107 (REFERENCES.md: confirmed). At this size the window
+// (2013) 052107 (confirmed). At this size the window
 // narrows to about ±0.02 around p_c, so the probability must cross one half
 // between 0.29 and 0.33, be near 0 at 0.25 and near 1 at 0.40.
 func TestSitePercolationThreshold(t *testing.T) {

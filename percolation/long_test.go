@@ -17,7 +17,7 @@ func skipUnlessLong(t *testing.T) {
 // TestLongSitePercolation64 repeats the threshold check of
 // TestSitePercolationThreshold at L = 64 with 100 seeds per point, against
 // p_c = 0.3116077 (Wang, Zhou, Zhang, Garoni & Deng, Phys. Rev. E 87 (2013)
-// 052107; REFERENCES.md: confirmed), and checks that the spanning
+// 052107; confirmed), and checks that the spanning
 // probability rises monotonically through the window.
 func TestLongSitePercolation64(t *testing.T) {
 	skipUnlessLong(t)
@@ -54,7 +54,7 @@ func TestLongSitePercolation64(t *testing.T) {
 }
 
 // TestLongMaxwell64 checks an insulating sphere at f ≈ 0.05 in a periodic
-// 64³ box against Maxwell's (1 − f)/(1 + f/2) (Maxwell 1873; REFERENCES.md:
+// 64³ box against Maxwell's (1 − f)/(1 + f/2) (Maxwell 1873;
 // exact to first order in f) within 2 %, in the periodic and the open
 // (electrode) boundary modes.
 func TestLongMaxwell64(t *testing.T) {

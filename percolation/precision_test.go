@@ -196,7 +196,7 @@ func TestDiffusivityFloat64(t *testing.T) {
 	// The reference itself against an exact case: water/C-S-H layers in
 	// series along z conduct as the harmonic mean.
 	box := Box{NX: 3, NY: 2, NZ: 6}
-	phase := make([]uint8, box.Len())
+	phase := waterPhases(box.Len())
 	for i := range phase {
 		if _, _, z := box.Coords(i); z%2 == 1 {
 			phase[i] = kinetics.CSHOuter

@@ -256,26 +256,26 @@ func meanZ(f map[string]float64) float64 {
 // cement chemist notation: C = CaO, S = SiO2, A = Al2O3, F = Fe2O3,
 // S̄ = SO3, C̄ = CO2, H = H2O). The empty pore holds no matter.
 var meanZFormulas = map[string]map[string]float64{
-	"water":         {"H": 2, "O": 1},                                 // H2O
-	"empty":         {},                                               // vacuum (mean Z 0)
-	"c3s":           {"Ca": 3, "Si": 1, "O": 5},                       // Ca3SiO5
-	"c2s":           {"Ca": 2, "Si": 1, "O": 4},                       // Ca2SiO4
-	"c3a":           {"Ca": 3, "Al": 2, "O": 6},                       // Ca3Al2O6
-	"c4af":          {"Ca": 4, "Al": 2, "Fe": 2, "O": 10},             // Ca4Al2Fe2O10
-	"gypsum":        {"Ca": 1, "S": 1, "O": 6, "H": 4},                // CaSO4·2H2O
-	"hemihydrate":   {"Ca": 1, "S": 1, "O": 4.5, "H": 1},              // CaSO4·0.5H2O
-	"anhydrite":     {"Ca": 1, "S": 1, "O": 4},                        // CaSO4
-	"calcite":       {"Ca": 1, "C": 1, "O": 3},                        // CaCO3
-	"inert":         {"Si": 1, "O": 2},                                // SiO2 (quartz-like)
-	"csh_inner":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},           // C1.7SH4
-	"csh_outer":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},           // C1.7SH4
-	"ch":            {"Ca": 1, "O": 2, "H": 2},                        // Ca(OH)2
-	"aft":           {"Ca": 6, "Al": 2, "S": 3, "O": 50, "H": 64},     // Ca6Al2(SO4)3(OH)12·26H2O
-	"afm":           {"Ca": 4, "Al": 2, "S": 1, "O": 22, "H": 24},     // Ca4Al2(SO4)(OH)12·6H2O
-	"hydrogarnet":   {"Ca": 3, "Al": 2, "O": 12, "H": 12},             // Ca3Al2(OH)12
-	"fh3":           {"Fe": 2, "O": 6, "H": 6},                        // Fe2O3·3H2O = 2 Fe(OH)3
-	"monocarbonate": {"Ca": 4, "Al": 2, "C": 1, "O": 20, "H": 22},     // 3CaO·Al2O3·CaCO3·11H2O
-	"hemicarbonate": {"Ca": 4, "Al": 2, "C": 0.5, "O": 19.5, "H": 25}, // 3CaO·Al2O3·0.5CaCO3·0.5Ca(OH)2·11.5H2O
+	"water":         {"H": 2, "O": 1},                               // H2O
+	"empty":         {},                                             // vacuum (mean Z 0)
+	"c3s":           {"Ca": 3, "Si": 1, "O": 5},                     // Ca3SiO5
+	"c2s":           {"Ca": 2, "Si": 1, "O": 4},                     // Ca2SiO4
+	"c3a":           {"Ca": 3, "Al": 2, "O": 6},                     // Ca3Al2O6
+	"c4af":          {"Ca": 4, "Al": 2, "Fe": 2, "O": 10},           // Ca4Al2Fe2O10
+	"gypsum":        {"Ca": 1, "S": 1, "O": 6, "H": 4},              // CaSO4·2H2O
+	"hemihydrate":   {"Ca": 1, "S": 1, "O": 4.5, "H": 1},            // CaSO4·0.5H2O
+	"anhydrite":     {"Ca": 1, "S": 1, "O": 4},                      // CaSO4
+	"calcite":       {"Ca": 1, "C": 1, "O": 3},                      // CaCO3
+	"inert":         {"Si": 1, "O": 2},                              // SiO2 (quartz-like)
+	"csh_inner":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},         // C1.7SH4
+	"csh_outer":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},         // C1.7SH4
+	"ch":            {"Ca": 1, "O": 2, "H": 2},                      // Ca(OH)2
+	"aft":           {"Ca": 6, "Al": 2, "S": 3, "O": 50, "H": 64},   // Ca6Al2(SO4)3(OH)12·26H2O
+	"afm":           {"Ca": 4, "Al": 2, "S": 1, "O": 22, "H": 24},   // Ca4Al2(SO4)(OH)12·6H2O
+	"hydrogarnet":   {"Ca": 3, "Al": 2, "O": 12, "H": 12},           // Ca3Al2(OH)12
+	"fh3":           {"Fe": 2, "O": 6, "H": 6},                      // Fe2O3·3H2O = 2 Fe(OH)3
+	"monocarbonate": {"Ca": 4, "Al": 2, "C": 1, "O": 20, "H": 22},   // 3CaO·Al2O3·CaCO3·11H2O
+	"hemicarbonate": {"Ca": 4, "Al": 2, "C": 0.5, "O": 20, "H": 24}, // 3CaO·Al2O3·0.5CaCO3·0.5Ca(OH)2·11.5H2O
 }
 
 // Every phase's mean Z is that of its formula, the hydrates with their

@@ -59,7 +59,7 @@ func TestPresentSkipsMissing(t *testing.T) {
 }
 
 func TestPowersCapillaryPorosity(t *testing.T) {
-	// Mindess, Young & Darwin (2003), via REFERENCES.md — partly confirmed:
+	// Mindess, Young & Darwin (2003) — partly confirmed:
 	// at α = 0 the porosity is w/c / (w/c + 0.32); at w/c 0.5 and α = 1 it
 	// is 0.14 / 0.82.
 	if got := PowersCapillaryPorosity(0.5, 0); math.Abs(got-0.5/0.82) > 1e-12 {

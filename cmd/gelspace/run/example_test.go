@@ -38,6 +38,6 @@ func Example() {
 		fmt.Printf("set at %.1f h (α %.2f)\n", res.Set.TimeH, res.Set.Alpha)
 	}
 	// Output:
-	// α at 24 h: 0.42, capillary porosity 0.38
-	// set at 4.2 h (α 0.04)
+	// α at 24 h: 0.40, capillary porosity 0.38
+	// set at 2.1 h (α 0.02)
 }
