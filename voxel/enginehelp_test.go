@@ -14,24 +14,7 @@ var demoMix = map[string]float64{"c3s": 58, "c2s": 17, "c3a": 7.5, "c4af": 10.5,
 // distribution (x′ 14 µm, n 1.05, the default config) at w/c wc.
 func enginePaste(t testing.TB, n int, voxelUM, wc float64, seed uint64) *Grid {
 	t.Helper()
-	c, err := kinetics.NewComposition(demoMix)
-	if err != nil {
-		t.Fatal(err)
-	}
-	psd, err := RosinRammler(14, 1.05)
-	if err != nil {
-		t.Fatal(err)
-	}
-	cls, err := psd.Classes(voxelUM, n)
-	if err != nil {
-		t.Fatal(err)
-	}
-	pops := Populations(c.PasteVolumeFractions(wc), n*n*n, Polymineral)
-	res, err := Pack(PackSpec{NX: n, NY: n, NZ: n, VoxelUM: voxelUM, Classes: cls, Pops: pops, Seed: seed})
-	if err != nil {
-		t.Fatal(err)
-	}
-	return res.Grid
+	return mixPaste(t, demoMix, n, voxelUM, wc, seed)
 }
 
 // newTestEngine hydrates g with the default parameters.
