@@ -15,21 +15,15 @@ import (
 	"gelspace/cmd/gelspace/sweep"
 )
 
-// sweepBase is a tiny run config for sweep tests: 24³ voxels to 24 h.
-const sweepBase = `seed = 3
-[cement]
-phases = { c3s = 58.0, c2s = 17.0, c3a = 7.5, c4af = 10.5, gypsum = 5.0, calcite = 2.0 }
-[psd]
-rosin_rammler = { x_um = 6.0, n = 1.1 }
-[mix]
-w_c = 0.45
-[box]
-voxels = 24
-[curing]
-until_h = 24.0
-[output]
-times_h = [4, 8, 24]
-`
+// sweepBase is a tiny run config for sweep tests: 24³ voxels to 24 h,
+// shared with the other sweep tests in testdata.
+var sweepBase = func() string {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "sweep-base-24.toml"))
+	if err != nil {
+		panic(err)
+	}
+	return string(b)
+}()
 
 // tinySweep is 2 w/c × 2 grinds (zipped with n) × 2 replicates = 8 runs.
 const tinySweep = `base = "base.toml"
