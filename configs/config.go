@@ -27,6 +27,10 @@ type Config struct {
 
 	Kinetics Kinetics `toml:"kinetics"`
 
+	// SCM lists the supplementary cementitious materials of a blended
+	// binder ([[scm]], in order; --set reaches them as scm.0.…).
+	SCM []SCM `toml:"scm"`
+
 	// DroppedAgesH are the output ages, h, of output.times_h and
 	// output.diffusivity_times_h that lie past curing.until_h and were
 	// dropped when the config was loaded (sorted as given; the command
@@ -70,7 +74,12 @@ type PSD struct {
 
 // MixConfig holds the proportions.
 type Mix struct {
-	WC float64 `toml:"w_c"` // water-to-cement mass ratio
+	// WC is the water-to-cement mass ratio; for a blend (any [[scm]]) the
+	// config gives WB instead, and after Validate WC holds the same value:
+	// everywhere in gelspace it is the water per gram of the whole powder.
+	WC float64 `toml:"w_c"`
+	// WB is the water-to-binder mass ratio (binder = cement + every SCM).
+	WB float64 `toml:"w_b"`
 }
 
 // BoxConfig is the voxel box.
@@ -301,7 +310,10 @@ func (c *Config) Validate() error {
 			return r.errAt("psd.rosin_rammler.n", "%g: must be between 0.3 and 5", rr.N)
 		}
 	}
-	// [mix]
+	// [[scm]] and [mix]
+	if err := c.checkSCM(r); err != nil {
+		return err
+	}
 	if !(c.Mix.WC >= minWC && c.Mix.WC <= maxWC) {
 		if c.Mix.WC == 0 {
 			return r.errAt("mix.w_c", "missing or 0: must be between %g and %g", minWC, maxWC)

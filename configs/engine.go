@@ -97,7 +97,7 @@ func (k *Kinetics) Params() (kinetics.Params, error) {
 			d = p.DissolutionOf(ph.ID)
 		}
 		if d == nil || d.VelocityUMPerH == 0 { // co-reactants (ettringite, calcite, CH) have no law of their own
-			return p, fmt.Errorf("kinetics.phase.%s: not a dissolving phase (allowed: c3s, c2s, c3a, c4af, gypsum, hemihydrate, anhydrite)", key)
+			return p, fmt.Errorf("kinetics.phase.%s: not a dissolving phase (allowed: c3s, c2s, c3a, c4af, gypsum, hemihydrate, anhydrite, silica_fume, fly_ash, slag, metakaolin)", key)
 		}
 		o := k.Phase[key]
 		set(&d.VelocityUMPerH, o.VelocityUMPerH)
@@ -134,6 +134,9 @@ func (cfg *Config) EngineSettings() (voxel.EngineSettings, error) {
 			key, msg, _ = strings.Cut(err.Error(), ": ")
 		}
 		return voxel.EngineSettings{}, r.errAt(kineticsKey(key), "%s", msg)
+	}
+	if err := cfg.applySCMKinetics(&p); err != nil {
+		return voxel.EngineSettings{}, err
 	}
 	th := kinetics.Thermal{Mode: cfg.Curing.TemperatureMode, TempC: cfg.Curing.TemperatureC}
 	switch th.Mode {

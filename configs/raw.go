@@ -74,8 +74,27 @@ func (r *Raw) Set(kv string) error {
 func (r *Raw) Put(key string, val any, kv, file string) error {
 	path := strings.Split(key, ".")
 	m := r.Tree
-	for i, p := range path[:len(path)-1] {
+	for i := 0; i < len(path)-1; i++ {
+		p := path[i]
 		next, exists := m[p]
+		// An array of tables ([[scm]]) is reached by index: scm.0.kind.
+		if idx, isIndex := arrayIndex(path[i+1]); isIndex && i+1 < len(path)-1 {
+			arr, err := tableArray(next, exists)
+			if err != nil || idx > len(arr) {
+				what := fmt.Sprintf("%s is not an array of tables", strings.Join(path[:i+1], "."))
+				if err == nil {
+					what = fmt.Sprintf("%s has %d entries: index %d must be at most %d (the next one adds an entry)", strings.Join(path[:i+1], "."), len(arr), idx, len(arr))
+				}
+				return &InputError{File: file, Key: key, Msg: what}
+			}
+			if idx == len(arr) {
+				arr = append(arr, map[string]any{})
+			}
+			m[p] = arr
+			m = arr[idx]
+			i++
+			continue
+		}
 		if !exists {
 			nm := map[string]any{}
 			m[p] = nm
@@ -91,6 +110,45 @@ func (r *Raw) Put(key string, val any, kv, file string) error {
 	m[path[len(path)-1]] = val
 	r.sets[key] = kv
 	return nil
+}
+
+// arrayIndex reports whether a key part is an array index (0, 1, …; at
+// most 99).
+func arrayIndex(p string) (int, bool) {
+	if len(p) == 0 || len(p) > 2 {
+		return 0, false
+	}
+	n := 0
+	for _, c := range p {
+		if c < '0' || c > '9' {
+			return 0, false
+		}
+		n = 10*n + int(c-'0')
+	}
+	return n, true
+}
+
+// tableArray returns the tables of an array of tables, a new empty one
+// when absent.
+func tableArray(v any, exists bool) ([]map[string]any, error) {
+	if !exists {
+		return nil, nil
+	}
+	switch a := v.(type) {
+	case []map[string]any:
+		return a, nil
+	case []any:
+		out := make([]map[string]any, len(a))
+		for i, x := range a {
+			t, ok := x.(map[string]any)
+			if !ok {
+				return nil, fmt.Errorf("not a table")
+			}
+			out[i] = t
+		}
+		return out, nil
+	}
+	return nil, fmt.Errorf("not an array of tables")
 }
 
 // Clone returns a copy of r whose tree and overrides can change without
@@ -203,6 +261,7 @@ func (r *Raw) Decode() (*Config, error) {
 func KeyLines(data []byte) map[string]int {
 	lines := map[string]int{}
 	table := ""
+	arrays := map[string]int{} // entries seen of each array of tables
 	for n, line := range strings.Split(string(data), "\n") {
 		s := stripComment(line)
 		s = strings.TrimSpace(s)
@@ -212,6 +271,14 @@ func KeyLines(data []byte) map[string]int {
 		if strings.HasPrefix(s, "[") {
 			name := strings.Trim(s, "[] \t")
 			table = cleanKey(name)
+			if strings.HasPrefix(s, "[[") { // the k-th entry is table.k
+				if _, ok := lines[table]; !ok {
+					lines[table] = n + 1
+				}
+				k := arrays[table]
+				arrays[table] = k + 1
+				table = fmt.Sprintf("%s.%d", table, k)
+			}
 			if _, ok := lines[table]; !ok {
 				lines[table] = n + 1
 			}

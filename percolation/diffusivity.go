@@ -28,8 +28,8 @@ const (
 const CSHRelDiffusivity = 1.0 / 400
 
 // DefaultDiffusivities returns the default table of relative diffusivities
-// D/D0 by phase id: 1 for every pore id (kinetics.IsPore), CSHRelDiffusivity for inner
-// and outer C-S-H, and 0 (insulating) for every other phase.
+// D/D0 by phase id: 1 for every pore id (kinetics.IsPore), CSHRelDiffusivity for inner,
+// outer and pozzolanic C-S-H, and 0 (insulating) for every other phase.
 func DefaultDiffusivities() [kinetics.NumIDs]float64 {
 	var t [kinetics.NumIDs]float64
 	for id := range kinetics.NumIDs {
@@ -39,6 +39,9 @@ func DefaultDiffusivities() [kinetics.NumIDs]float64 {
 	}
 	t[kinetics.CSHInner] = CSHRelDiffusivity
 	t[kinetics.CSHOuter] = CSHRelDiffusivity
+	// The low-Ca C-S-H of the SCM reactions is taken to conduct as the
+	// clinker's C-S-H (an assumption: no separate figure is used).
+	t[kinetics.PozzCSH] = CSHRelDiffusivity
 	return t
 }
 

@@ -185,13 +185,8 @@ type PlannedPhase struct {
 // the table it takes the colour listed here and leaves this list (the test
 // fails while an id is in both).
 var planned = []PlannedPhase{
-	{ID: 61, Key: "silica_fume", Colour: color.RGBA{0x6f, 0x09, 0x8e, 0xff}},   // silica fume
-	{ID: 63, Key: "fly_ash", Colour: color.RGBA{0xc1, 0x73, 0xdd, 0xff}},       // fly ash
-	{ID: 65, Key: "slag", Colour: color.RGBA{0xcc, 0x41, 0xff, 0xff}},          // slag
-	{ID: 67, Key: "metakaolin", Colour: color.RGBA{0x2c, 0x02, 0xf7, 0xff}},    // metakaolin
-	{ID: 104, Key: "csh_pozz", Colour: color.RGBA{0x5a, 0xb9, 0x99, 0xff}},     // pozzolanic (low-Ca) C-S-H
-	{ID: 128, Key: "stratlingite", Colour: color.RGBA{0x9d, 0xff, 0x00, 0xff}}, // strätlingite C2ASH8
-	{ID: 134, Key: "hydrotalcite", Colour: color.RGBA{0x00, 0x66, 0x00, 0xff}}, // hydrotalcite M4AH10
+	// Empty: the SCM and blend phases (61, 63, 65, 67, 104, 128, 134)
+	// joined the table with the colours chosen for them here.
 }
 
 // Planned returns the reserved phases and their colours, in id order.

@@ -36,6 +36,17 @@ type Engine struct {
 	sets     [][]int32 // d*classesPerPhase + exposure class → members
 	sumW     []int     // per d: Σ faces touching water
 	sumH     []int     // per d: Σ faces touching hydrate (product)
+	// bulk is S_v·h for a sub-voxel powder (kinetics.Dissolution
+	// SurfacePerUM): the faces' worth of surface in each of its voxels; 0
+	// for the face law. nAccW and nAccH count, per d, the exposed voxels
+	// with a face on water and those touching only product.
+	bulk         []float64
+	nAccW, nAccH []int
+	// chNeed is, per d, the CH (mol) one voxel of an SCM takes from the
+	// solution (0 for slag, which needs CH only as activator), or −1 for
+	// the other phases; anySCM says whether any d has one.
+	chNeed []float64
+	anySCM bool
 	sulfMol  []float64 // per d: mol per µm³ for sulfate carriers, 0 otherwise
 	rules    [kinetics.NumIDs]*stickRule
 	anySolid stickRule     // rule for trapped units
@@ -99,7 +110,13 @@ type state struct {
 	EmptyList []int32
 	EmptyPos  int
 	WaterOut  bool // sealed: shrinkage could not be emptied (no water left)
-	RNG       []byte
+	// CHSeen records that CH has formed; CHOut that, after it had, an SCM
+	// with exposed surface could not react for want of CH, first at
+	// CHOutS (s).
+	CHSeen bool
+	CHOut  bool
+	CHOutS float64
+	RNG    []byte
 }
 
 // maxFails is the number of failed precipitation attempts after which a
@@ -182,17 +199,23 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 		e.sulfMol = append(e.sulfMol, sm)
 		rx := -1
-		switch d.Phase {
-		case kinetics.C3S:
-			rx = e.rxIndex[kinetics.RxC3S]
-		case kinetics.C2S:
-			rx = e.rxIndex[kinetics.RxC2S]
-		case kinetics.Hemihydrate:
-			rx = e.rxIndex[kinetics.RxHemihydrate]
-		case kinetics.Anhydrite:
-			rx = e.rxIndex[kinetics.RxAnhydrite]
+		need := -1.0
+		if key := kinetics.PrimaryReaction(d.Phase); key != "" {
+			rx = e.rxIndex[key]
+			if ph := kinetics.Lookup(d.Phase); ph.Role == kinetics.RoleSCM {
+				r := &kinetics.Reactions()[rx]
+				need = 0
+				for _, c := range r.Co {
+					if c.Phase == kinetics.CH {
+						need += c.Mol * e.voxCM3 / ph.MolarVolumeCM3() / r.PrimaryMol
+					}
+				}
+				e.anySCM = true
+			}
 		}
 		e.rxOfD = append(e.rxOfD, rx)
+		e.chNeed = append(e.chNeed, need)
+		e.bulk = append(e.bulk, d.SurfacePerUM*g.VoxelUM)
 	}
 	if len(e.dph)*classesPerPhase >= noClass {
 		return nil, fmt.Errorf("voxel: %d dissolving phases in the kinetics table: at most %d", len(e.dph), (noClass-1)/classesPerPhase)
@@ -291,6 +314,8 @@ func (e *Engine) buildClasses() {
 	e.sets = make([][]int32, len(e.dph)*classesPerPhase)
 	e.sumW = make([]int, len(e.dph))
 	e.sumH = make([]int, len(e.dph))
+	e.nAccW = make([]int, len(e.dph))
+	e.nAccH = make([]int, len(e.dph))
 	for i := range e.cls {
 		e.cls[i] = noClass
 	}
@@ -352,6 +377,11 @@ func (e *Engine) reclassify(i int) {
 		oc := int(old) % classesPerPhase
 		e.sumW[od] -= int(triW[oc])
 		e.sumH[od] -= int(triH[oc])
+		if triW[oc] > 0 {
+			e.nAccW[od]--
+		} else {
+			e.nAccH[od]--
+		}
 	}
 	e.cls[i] = want
 	if want != noClass {
@@ -359,6 +389,11 @@ func (e *Engine) reclassify(i int) {
 		e.sets[want] = append(e.sets[want], int32(i))
 		e.sumW[d] += w
 		e.sumH[d] += h
+		if w > 0 {
+			e.nAccW[d]++
+		} else {
+			e.nAccH[d]++
+		}
 	}
 }
 

@@ -69,9 +69,25 @@ func (e *Engine) computeRates() float64 {
 	sSi := e.silicateSaturation()
 	sigma := e.sulfateAvailability()
 	poolSat := e.p.GypsumSolubilityMolPerL * water * e.voxCM3 / 1000
+	chAvail := -1.0
+	if e.anySCM {
+		chAvail = e.chAvailable()
+	}
 	var total float64
 	for d, id := range e.dph {
-		r := e.velPerS[d] * (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * e.arrD[d] * fw
+		var r float64
+		if e.bulk[d] > 0 {
+			r = e.velPerS[d] * e.bulk[d] * (float64(e.nAccW[d]) + e.beta[d]*float64(e.nAccH[d])) * e.arrD[d] * fw
+		} else {
+			r = e.velPerS[d] * (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * e.arrD[d] * fw
+		}
+		if need := e.chNeed[d]; need >= 0 && r > 0 && !(chAvail > 0 && chAvail >= need) {
+			// CH gate: no CH to take (pozzolans) or to activate (slag).
+			if e.s.CHSeen && !e.s.CHOut {
+				e.s.CHOut, e.s.CHOutS = true, e.s.TimeS
+			}
+			r = 0
+		}
 		r *= e.p.SulfateRetardation(e.sulfFac[d], sigma)
 		switch id {
 		case kinetics.C3S, kinetics.C2S:
@@ -115,6 +131,24 @@ func (e *Engine) computeRates() float64 {
 		total += r
 	}
 	return total
+}
+
+// chAvailable returns the CH (mol) the solution can supply now: its
+// co-reactant pool, the dissolved CH units and the exposed CH voxels. It
+// also records that CH has formed.
+func (e *Engine) chAvailable() float64 {
+	molVox := e.voxCM3 / kinetics.Lookup(kinetics.CH).MolarVolumeCM3()
+	n := len(e.s.Free[kinetics.CH])
+	if d := e.dOf[kinetics.CH]; d >= 0 {
+		base := int(d) * classesPerPhase
+		for c := 1; c < classesPerPhase; c++ {
+			n += len(e.sets[base+c])
+		}
+	}
+	if n > 0 || e.s.Count[kinetics.CH] > 0 {
+		e.s.CHSeen = true
+	}
+	return e.s.CoPool[kinetics.CH] + float64(n)*molVox
 }
 
 func (e *Engine) silicateSaturation() float64 {
@@ -212,6 +246,12 @@ func (e *Engine) classWeight(d, c int, weighted bool) float64 {
 	if !weighted {
 		return 1
 	}
+	if e.bulk[d] > 0 { // sub-voxel powder: the voxel's surface, open to water or under product
+		if triW[c] > 0 {
+			return 1
+		}
+		return e.beta[d]
+	}
 	return float64(triW[c]) + e.beta[d]*float64(triH[c])
 }
 
@@ -225,7 +265,7 @@ func (e *Engine) classWeight(d, c int, weighted bool) float64 {
 func (e *Engine) accept(i, d int) bool {
 	c := int(e.cls[i]) % classesPerPhase
 	h := float64(triH[c])
-	if h == 0 || e.delta0 <= 0 {
+	if h == 0 || e.delta0 <= 0 || e.bulk[d] > 0 {
 		return true
 	}
 	w := float64(triW[c])
@@ -249,9 +289,21 @@ func (e *Engine) dissolve(i int) {
 	case kinetics.Lookup(id).Role == kinetics.RoleSulfate:
 		e.dissolveSulfate(i)
 	default:
-		if rx := e.rxOfD[d]; rx >= 0 {
-			e.react(i, rx)
+		rx := e.rxOfD[d]
+		if rx < 0 {
+			return
 		}
+		r := &kinetics.Reactions()[rx]
+		molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
+		for _, c := range r.Co {
+			if !e.ensure(c.Phase, c.Mol*molVox/r.PrimaryMol) {
+				return // the CH gate of computeRates keeps this rare
+			}
+		}
+		for _, c := range r.Co {
+			e.withdraw(c.Phase, c.Mol*molVox/r.PrimaryMol)
+		}
+		e.react(i, rx)
 	}
 }
 
@@ -373,6 +425,12 @@ func (e *Engine) ensure(id kinetics.ID, mol float64) bool {
 	}
 	d := int(e.dOf[id])
 	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
+	if id == kinetics.CH { // dissolved CH first: the solution is well mixed
+		for e.s.CoPool[id] < mol && len(e.s.Free[id]) > 0 {
+			e.popFree(id)
+			e.s.CoPool[id] += molVox
+		}
+	}
 	for e.s.CoPool[id] < mol {
 		if d < 0 {
 			return false

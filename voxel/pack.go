@@ -15,6 +15,9 @@ import (
 type Population struct {
 	Phases []kinetics.ID
 	Voxels []int
+	// Classes, when set, are the population's own particle sizes (an SCM
+	// with its own PSD); nil uses PackSpec.Classes.
+	Classes *Classes
 }
 
 // Total returns the population's target voxels.
@@ -170,18 +173,29 @@ func Pack(spec PackSpec) (*PackResult, error) {
 	cls := spec.Classes
 	res := &PackResult{Grid: g, Diameter: []uint16{0}, Pop: []uint8{0}}
 	total := 0
+	maxD := cls.MaxDiameter
+	for _, p := range spec.Pops {
+		if p.Classes != nil {
+			maxD = max(maxD, p.Classes.MaxDiameter)
+		}
+	}
 	for _, p := range spec.Pops {
 		if len(p.Phases) != len(p.Voxels) || len(p.Phases) == 0 {
 			panic("voxel: Pack: population phases and voxels differ in length")
 		}
-		c := cls.Counts(p.Total())
+		pc := cls
+		if p.Classes != nil {
+			pc = p.Classes
+		}
+		c := pc.Counts(p.Total())
+		c = append(c, make([]int, maxD+1-len(c))...) // every population indexed up to maxD
 		res.Counts = append(res.Counts, c)
 		total += p.Total()
 	}
 	if total > g.Len() {
 		return nil, &PackError{fmt.Sprintf("solid target %d voxels exceeds the box's %d: raise mix.w_c", total, g.Len())}
 	}
-	for d := cls.MaxDiameter; d >= 1; d-- {
+	for d := maxD; d >= 1; d-- {
 		for _, c := range res.Counts {
 			if c[d] > 0 && d > minEdge/2 {
 				return nil, &PackError{fmt.Sprintf("particles of %d voxels (%.3g µm) do not fit a box of %d voxels per edge: enlarge box.voxels to at least %d", d, float64(d)*spec.VoxelUM, minEdge, 2*d)}
@@ -200,7 +214,7 @@ func Pack(spec PackSpec) (*PackResult, error) {
 	pk := packer{g: g, rng: rng}
 	var order []uint8
 	placed := 0
-	for d := cls.MaxDiameter; d >= 1; d-- {
+	for d := maxD; d >= 1; d-- {
 		order = order[:0]
 		for pi, c := range res.Counts {
 			for k := 0; k < c[d]; k++ {

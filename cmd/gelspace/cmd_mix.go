@@ -59,7 +59,11 @@ func printMix(w io.Writer, rep run.MixReport) {
 	if rep.Cement != "" {
 		fmt.Fprintf(w, "cement   %s\n", rep.Cement)
 	}
-	fmt.Fprintf(w, "w/c      %g\ndensity  %.3f g/cm³ (powder)\nsolids   %.4f initial solid volume fraction\n\n", rep.WC, rep.DensityGPerCM, rep.SolidFraction)
+	ratio := "w/c    "
+	if len(rep.SCMs) > 0 {
+		ratio = "w/b    " // water to binder (cement + SCMs)
+	}
+	fmt.Fprintf(w, "%s  %g\ndensity  %.3f g/cm³ (powder)\nsolids   %.4f initial solid volume fraction\n\n", ratio, rep.WC, rep.DensityGPerCM, rep.SolidFraction)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "phase\trole\tρ g/cm³\tmass %\tvolume %\tpaste vol %\t")
 	for _, p := range rep.Phases {
@@ -67,6 +71,18 @@ func printMix(w io.Writer, rep run.MixReport) {
 	}
 	fmt.Fprintf(tw, "water\tpore\t%.3f\t\t\t%.2f\t\n", kinetics.WaterDensity, 100*(1-rep.SolidFraction))
 	tw.Flush()
+	if len(rep.SCMs) > 0 {
+		fmt.Fprintln(w, "\nbinder (cement + SCMs); an SCM's inert part is counted in the inert row above")
+		tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintln(tw, "SCM\tmass %\tvolume %\tρ g/cm³\tamorphous %\td10 µm\td50 µm\td90 µm\tm²/kg (PSD)\t")
+		for _, s := range rep.SCMs {
+			fmt.Fprintf(tw, "%s\t%.1f\t%.1f\t%.2f\t%.0f\t%.2f\t%.2f\t%.2f\t%.0f\t\n", s.Name, s.MassPercent, s.VolumePercent, s.DensityGPerCM3, s.AmorphousPercent, s.D10UM, s.D50UM, s.D90UM, s.SurfaceM2PerKg)
+		}
+		tw.Flush()
+		for _, s := range rep.SCMs {
+			fmt.Fprintf(w, "  %s: reactive part %s; %s; %s\n", s.Kind, s.Composition, s.PSD, s.Representation)
+		}
+	}
 	if b := rep.Bogue; b != nil {
 		branch := "A/F ≥ 0.64"
 		if b.SolidSolution {

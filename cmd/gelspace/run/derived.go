@@ -84,7 +84,7 @@ func massPer100G(e *voxel.Engine, id kinetics.ID) float64 {
 // diffusivity columns must be set.
 func (h *hydration) derive(r, prev []float64) {
 	n := float64(h.e.Grid().Len())
-	vCSH := float64(h.e.Count(kinetics.CSHInner)+h.e.Count(kinetics.CSHOuter)) / n
+	vCSH := float64(h.e.Count(kinetics.CSHInner)+h.e.Count(kinetics.CSHOuter)+h.e.Count(kinetics.PozzCSH)) / n
 	r[colGelSpace] = GelSpaceRatio(r[colAlpha], h.cfg.Mix.WC)
 	r[colGelPor] = GelPorosity(vCSH)
 	r[colTotPor] = r[colCapPor] + r[colGelPor]
@@ -92,7 +92,7 @@ func (h *hydration) derive(r, prev []float64) {
 	r[colBoundW] = 100 * r[colNonEvap]
 	r[colAFt] = massPer100G(h.e, kinetics.AFt)
 	r[colAFm] = massPer100G(h.e, kinetics.AFm)
-	r[colCSH] = massPer100G(h.e, kinetics.CSHInner) + massPer100G(h.e, kinetics.CSHOuter)
+	r[colCSH] = massPer100G(h.e, kinetics.CSHInner) + massPer100G(h.e, kinetics.CSHOuter) + massPer100G(h.e, kinetics.PozzCSH)
 	if !math.IsNaN(r[colDiff]) {
 		r[colFormation] = 1 / r[colDiff] // +Inf when no path conducts
 	}

@@ -22,6 +22,7 @@ import (
 // Column names of series.csv and samples.csv, before the vol_<phase>
 // columns (a stable interface: scripts read them by name).
 var seriesHead = []string{"time_h", "temperature_c", "alpha", "alpha_c3s", "alpha_c2s", "alpha_c3a", "alpha_c4af",
+	"alpha_silica_fume", "alpha_fly_ash", "alpha_slag", "alpha_metakaolin",
 	"heat_j_per_g", "heat_flow_mw_per_g", "chem_shrinkage_ml_per_g", "water_consumed_g_per_g",
 	"nonevaporable_water_g_per_g", "capillary_porosity", "water_filled_porosity",
 	"solids_connected_fraction", "solids_span_axes", "pores_connected_fraction", "pores_span_axes", "rel_diffusivity",
@@ -37,6 +38,10 @@ const (
 	colAlphaC2S
 	colAlphaC3A
 	colAlphaC4AF
+	colAlphaSilicaFume
+	colAlphaFlyAsh
+	colAlphaSlag
+	colAlphaMetakaolin
 	colHeat
 	colFlow
 	colShrink
@@ -158,6 +163,26 @@ func newHydration(cfg *configs.Config, set voxel.EngineSettings, e *voxel.Engine
 	return h
 }
 
+// scmAlphaPhases are the reactive phases of the alpha_<kind> columns, in
+// column order.
+var scmAlphaPhases = [4]kinetics.ID{kinetics.SilicaFume, kinetics.FlyAsh, kinetics.Slag, kinetics.Metakaolin}
+
+// scaleSCMAlpha turns the reacted share of each SCM's reactive part into
+// its degree of reaction: the reacted mass over the whole SCM's mass
+// (reactive and inert parts), as selective dissolution and image analysis
+// report it.
+func (h *hydration) scaleSCMAlpha(r []float64) {
+	for k, id := range scmAlphaPhases {
+		a := math.NaN()
+		for _, s := range h.cfg.SCM {
+			if kinetics.SCMKindByKey(s.Kind).Phase == id {
+				a = s.Amorphous()
+			}
+		}
+		r[colAlphaSilicaFume+k] *= a
+	}
+}
+
 // row computes the cheap columns of the engine's present state; the
 // connectivity and diffusivity columns are NaN.
 func row(e *voxel.Engine, prev []float64) []float64 {
@@ -174,6 +199,9 @@ func row(e *voxel.Engine, prev []float64) []float64 {
 	r[colAlphaC2S] = e.AlphaOf(kinetics.C2S)
 	r[colAlphaC3A] = e.AlphaOf(kinetics.C3A)
 	r[colAlphaC4AF] = e.AlphaOf(kinetics.C4AF)
+	for k, id := range scmAlphaPhases {
+		r[colAlphaSilicaFume+k] = e.AlphaOf(id) // of the reactive part; scaled by scaleSCMAlpha
+	}
 	r[colHeat] = e.HeatJPerG()
 	prevT, prevQ := 0.0, 0.0
 	if prev != nil {
@@ -253,6 +281,7 @@ func (h *hydration) step() (bool, error) {
 		prev = h.st.Samples[n-1]
 	}
 	r := row(h.e, prev)
+	h.scaleSCMAlpha(r)
 	if h.isOut[k] {
 		s, p := h.connectivity()
 		r[colSolidsFrac], r[colSolidsSpan] = s.Fraction, float64(s.SpanAxes)

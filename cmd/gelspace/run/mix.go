@@ -3,7 +3,9 @@ package run
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"strings"
 	"unicode/utf8"
@@ -15,8 +17,13 @@ import (
 
 // Mix is a config resolved into chemistry and sizes.
 type Mix struct {
-	Cfg     *configs.Config
-	Comp    *kinetics.Composition
+	Cfg *configs.Config
+	// Comp is the binder: the cement and, for a blend, its SCMs (each
+	// SCM's amorphous part as its reactive phase, the rest as inert).
+	Comp *kinetics.Composition
+	// Cement is the cement alone (Comp without SCMs).
+	Cement  *kinetics.Composition
+	SCMs    []SCMMix
 	Bogue   *kinetics.BoguePhases // nil when the phases were given
 	PSD     *voxel.PSD
 	Classes *voxel.Classes
@@ -24,6 +31,85 @@ type Mix struct {
 	SolidFraction float64
 	// Paste is the volume fraction of each phase in the fresh paste.
 	Paste [kinetics.NumIDs]float64
+	// CementPaste is Paste less the SCMs' particles: the cement's share.
+	CementPaste [kinetics.NumIDs]float64
+}
+
+// SCMMix is one SCM of a resolved blend.
+type SCMMix struct {
+	Index     int // position in cfg.SCM
+	Kind      *kinetics.SCMKind
+	MassFrac  float64 // of the binder
+	Amorphous float64 // reactive share of the powder, 0–1
+	SubVoxel  bool
+	PSD       *voxel.PSD
+	Classes   *voxel.Classes
+	// PasteGlass and PasteCryst are the fresh-paste volume fractions of
+	// its reactive and inert parts.
+	PasteGlass, PasteCryst float64
+	// DensityGPerCM3 is the particle density (reactive and inert parts).
+	DensityGPerCM3 float64
+	// SurfacePerUM is the PSD's specific surface per volume, µm⁻¹.
+	SurfacePerUM float64
+}
+
+// resolveSCMs adds the SCMs of a blend to m (after m.Cement is set).
+func (m *Mix) resolveSCMs() error {
+	cfg := m.Cfg
+	var parts []kinetics.BlendPart
+	for i, s := range cfg.SCM {
+		k := kinetics.SCMKindByKey(s.Kind)
+		sm := SCMMix{Index: i, Kind: k, MassFrac: s.MassPercent / 100, Amorphous: s.Amorphous(), SubVoxel: s.SubVoxel()}
+		var err error
+		if sm.PSD, err = cfg.ResolvePSD(i); err != nil {
+			return err
+		}
+		sm.SurfacePerUM = configs.SurfacePerUM(sm.PSD)
+		if sm.SubVoxel {
+			// Sub-voxel powder: single-voxel agglomerates whatever its sizes.
+			sm.Classes = &voxel.Classes{VoxelUM: cfg.Box.VoxelUM, MaxDiameter: 1, Fraction: []float64{0, 1}, FinerThanVoxel: sm.PSD.Passing(cfg.Box.VoxelUM)}
+		} else {
+			if sm.Classes, err = sm.PSD.Classes(cfg.Box.VoxelUM, cfg.Box.Voxels); err != nil {
+				return cfg.Errorf(fmt.Sprintf("scm.%d.psd", i), "%v", err)
+			}
+			if f := sm.Classes.FinerThanVoxel; f > configs.MaxFinerThanVoxel {
+				return cfg.Errorf(fmt.Sprintf("scm.%d.psd", i), "%.0f %% of the %s is finer than one voxel (%g µm), more than particles can represent (at most %.0f %%): give scm.%d.representation = \"subvoxel\" to carry it as sub-voxel powder that reacts by its own specific surface, or a smaller box.voxel_um",
+					100*f, s.Kind, cfg.Box.VoxelUM, 100*configs.MaxFinerThanVoxel, i)
+			}
+		}
+		ph := kinetics.Lookup(k.Phase)
+		inert := kinetics.Lookup(kinetics.Inert)
+		sm.DensityGPerCM3 = 1 / (sm.Amorphous/ph.DensityGPerCM3 + (1-sm.Amorphous)/inert.DensityGPerCM3)
+		m.SCMs = append(m.SCMs, sm)
+		parts = append(parts, kinetics.BlendPart{Phase: k.Phase, MassFrac: sm.MassFrac, Amorphous: sm.Amorphous})
+	}
+	b, err := m.Cement.Blend(parts)
+	if err != nil {
+		return cfg.Errorf("scm", "%v", err)
+	}
+	m.Comp = b
+	return nil
+}
+
+// Populations splits the fresh paste into particle populations for a box
+// of n voxels: the cement's (voxel.Populations) and one per SCM with its
+// own sizes, its reactive and inert parts sharing its particles.
+func (m *Mix) Populations(n int) []voxel.Population {
+	pops := voxel.Populations(m.CementPaste, n, clinkerGrains(m.Cfg.Pack))
+	for _, s := range m.SCMs {
+		glass := int(math.Round(s.PasteGlass * float64(n)))
+		cryst := int(math.Round(s.PasteCryst * float64(n)))
+		if glass == 0 && cryst == 0 {
+			continue
+		}
+		p := voxel.Population{Phases: []kinetics.ID{s.Kind.Phase}, Voxels: []int{glass}, Classes: s.Classes}
+		if cryst > 0 {
+			p.Phases = append(p.Phases, kinetics.Inert)
+			p.Voxels = append(p.Voxels, cryst)
+		}
+		pops = append(pops, p)
+	}
+	return pops
 }
 
 // Resolve turns a validated config into a Mix: the composition (Bogue
@@ -72,8 +158,21 @@ func Resolve(cfg *configs.Config) (*Mix, error) {
 	if m.Classes, err = m.PSD.Classes(cfg.Box.VoxelUM, cfg.Box.Voxels); err != nil {
 		return nil, cfg.Errorf("psd", "%v", err)
 	}
+	m.Cement = m.Comp
+	if err := m.resolveSCMs(); err != nil {
+		return nil, err
+	}
 	m.SolidFraction = m.Comp.SolidVolumeFraction(cfg.Mix.WC)
 	m.Paste = m.Comp.PasteVolumeFractions(cfg.Mix.WC)
+	m.CementPaste = m.Paste
+	inert := kinetics.Lookup(kinetics.Inert).DensityGPerCM3
+	for i := range m.SCMs {
+		s := &m.SCMs[i]
+		s.PasteGlass = m.Paste[s.Kind.Phase]
+		s.PasteCryst = m.Comp.PasteVolumeOf(s.MassFrac*(1-s.Amorphous), inert, cfg.Mix.WC)
+		m.CementPaste[s.Kind.Phase] = 0
+		m.CementPaste[kinetics.Inert] = math.Max(0, m.CementPaste[kinetics.Inert]-s.PasteCryst)
+	}
 	return m, nil
 }
 
@@ -89,6 +188,29 @@ type MixReport struct {
 	Bogue         *BogueReport  `json:"bogue"`
 	PSD           PSDReport     `json:"psd"`
 	Box           configs.Box   `json:"box"`
+	// WB and SCMs describe a blend: the water-to-binder ratio (w_c then
+	// holds the same value) and each SCM.
+	WB   float64     `json:"w_b,omitempty"`
+	SCMs []SCMReport `json:"scms,omitempty"`
+}
+
+// SCMReport is one SCM of a blend.
+type SCMReport struct {
+	Kind             string  `json:"kind"`
+	Name             string  `json:"name"`
+	MassPercent      float64 `json:"mass_percent_of_binder"`
+	VolumePercent    float64 `json:"volume_percent_of_binder"`
+	PastePercent     float64 `json:"paste_volume_percent"`
+	DensityGPerCM3   float64 `json:"density_g_per_cm3"`
+	AmorphousPercent float64 `json:"amorphous_percent"`
+	Composition      string  `json:"reactive_part"`
+	Representation   string  `json:"representation"`
+	PSD              string  `json:"psd"`
+	D10UM            float64 `json:"d10_um"`
+	D50UM            float64 `json:"d50_um"`
+	D90UM            float64 `json:"d90_um"`
+	SurfaceM2PerKg   float64 `json:"specific_surface_psd_m2_per_kg"`
+	FinerThanVoxel   float64 `json:"finer_than_voxel_fraction"`
 }
 
 // PhaseReport is one phase of the powder.
@@ -139,6 +261,21 @@ func (m *Mix) Report() MixReport {
 		rep.Phases = append(rep.Phases, PhaseReport{Key: p.Key, Name: p.Name, Role: p.Role.String(),
 			DensityGPerCM3: p.DensityGPerCM3, MassPercent: 100 * m.Comp.Mass(id),
 			VolumePercent: 100 * vol[id], PastePercent: 100 * m.Paste[id]})
+	}
+	if m.Cfg.IsBlend() {
+		rep.WB = m.Cfg.Mix.WB
+		vs := m.Comp.SpecificVolumeCM3PerG()
+		for _, sm := range m.SCMs {
+			r := SCMReport{Kind: sm.Kind.Key, Name: sm.Kind.Name, MassPercent: 100 * sm.MassFrac,
+				VolumePercent: 100 * sm.MassFrac / sm.DensityGPerCM3 / vs, PastePercent: 100 * (sm.PasteGlass + sm.PasteCryst),
+				DensityGPerCM3: sm.DensityGPerCM3, AmorphousPercent: 100 * sm.Amorphous, Composition: kinetics.Lookup(sm.Kind.Phase).Name,
+				Representation: "particles", PSD: sm.PSD.String(), D10UM: sm.PSD.QuantileUM(0.1), D50UM: sm.PSD.MedianUM(), D90UM: sm.PSD.QuantileUM(0.9),
+				SurfaceM2PerKg: sm.PSD.SpecificSurfaceM2PerKg(sm.DensityGPerCM3), FinerThanVoxel: sm.PSD.Passing(m.Cfg.Box.VoxelUM)}
+			if sm.SubVoxel {
+				r.Representation = fmt.Sprintf("subvoxel: single-voxel agglomerates reacting by the powder's own surface, %.3g µm² per µm³", sm.SurfacePerUM)
+			}
+			rep.SCMs = append(rep.SCMs, r)
+		}
 	}
 	if b := m.Bogue; b != nil {
 		rep.Bogue = &BogueReport{C3S: b.C3S, C2S: b.C2S, C3A: b.C3A, C4AF: b.C4AF, SolidSolution: b.SS}

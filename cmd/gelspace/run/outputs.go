@@ -113,7 +113,7 @@ type Bases struct {
 // The bases, as written in summary.json and the column docs.
 const (
 	VolumeBasis  = "fraction of the paste volume (the box: cement, hydrates, water-filled and empty pores)"
-	PerGramBasis = "per gram (or per 100 g) of the cement in the box, as the engine counts it"
+	PerGramBasis = "per gram (or per 100 g) of the powder in the box as tested: the cement, or for a blend the binder (cement + every SCM)"
 	// SetPointNote is written beside every set point.
 	SetPointNote = "model set point: the solids first connect across the box in all three axes; not a Vicat time (ASTM C191, EN 196-3 measure that)"
 	// PasteEstimateNote marks the chloride estimate.

@@ -18,7 +18,7 @@ import (
 func Pack(m *Mix) (*voxel.PackResult, error) {
 	c := m.Cfg
 	n := c.Box.Voxels
-	pops := voxel.Populations(m.Paste, n*n*n, clinkerGrains(c.Pack))
+	pops := m.Populations(n * n * n)
 	res, err := voxel.Pack(voxel.PackSpec{NX: n, NY: n, NZ: n, VoxelUM: c.Box.VoxelUM, Classes: m.Classes, Pops: pops,
 		SpacingVoxels: c.Pack.SpacingVoxels(c.Box.VoxelUM), DomainUM: c.Pack.PhaseDomainUM, Seed: uint64(c.Seed)})
 	if err != nil {
@@ -87,7 +87,7 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 	n := float64(g.Len())
 	cnt := g.Count()
 	c := m.Cfg
-	pops := voxel.Populations(m.Paste, g.Len(), clinkerGrains(c.Pack))
+	pops := m.Populations(g.Len())
 	rep := PackReport{Version: Version, Seed: c.Seed, Mix: m.Report(), Pack: c.Pack, Voxels: [3]int{g.NX, g.NY, g.NZ},
 		VoxelUM: g.VoxelUM, SolidTarget: m.SolidFraction, SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
 		SurfaceVoxel: voxel.SpecificSurfaceM2PerKg(g), Attempts: res.Attempts, Scans: res.Scans, WallS: wall,
@@ -113,13 +113,17 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 		Achieved: float64(cnt[kinetics.Water]) / n, TargetVoxels: g.Len() - sumTargets(pops), Voxels: cnt[kinetics.Water]})
 	for pi, p := range pops {
 		name := kinetics.Lookup(p.Phases[0]).Key
-		if len(p.Phases) > 1 {
+		if len(p.Phases) > 1 && kinetics.IsAnhydrous(p.Phases[0]) && kinetics.Lookup(p.Phases[0]).Role == kinetics.RoleClinker {
 			name = "clinker"
 		}
 		rep.ClassCounts[name] = res.Counts[pi]
 	}
 	// volume-weighted median class diameter of the packed particles
-	vol := make([]int, len(res.Counts[0]))
+	maxD := 0
+	for id := 1; id < len(res.Diameter); id++ {
+		maxD = max(maxD, int(res.Diameter[id]))
+	}
+	vol := make([]int, maxD+1)
 	total := 0
 	for id := 1; id < len(res.Diameter); id++ {
 		d := int(res.Diameter[id])
