@@ -110,7 +110,7 @@ type state struct {
 	EmptyList []int32
 	EmptyPos  int
 	WaterOut  bool // sealed: shrinkage could not be emptied (no water left)
-	// CHSeen records that CH has formed; CHOut that, after it had, an SCM
+	// CHSeen records that portlandite has formed; CHOut that, after it had, an SCM
 	// with exposed surface could not react for want of CH, first at
 	// CHOutS (s).
 	CHSeen bool
@@ -502,3 +502,8 @@ func (e *Engine) Spawned(key string) (reacted int, units []int) {
 
 // WaterOut reports whether, in sealed curing, the capillary water ran out.
 func (e *Engine) WaterOut() bool { return e.s.WaterOut }
+
+// CHRanOut reports whether, after CH had formed, an SCM with exposed
+// surface found no CH to react with (the pozzolans) or to be activated by
+// (slag), and the age in hours when that first happened.
+func (e *Engine) CHRanOut() (bool, float64) { return e.s.CHOut, e.s.CHOutS / 3600 }

@@ -133,10 +133,18 @@ func (e *Engine) computeRates() float64 {
 	return total
 }
 
-// chAvailable returns the CH (mol) the solution can supply now: its
-// co-reactant pool, the dissolved CH units and the exposed CH voxels. It
-// also records that CH has formed.
+// chAvailable returns the CH (mol) the solution can supply to the SCMs
+// now. The pozzolanic reactions need a pore solution saturated with CH,
+// which only portlandite in the paste keeps (common practice: the
+// pozzolanic reaction starts once portlandite has formed): without CH
+// crystals only the co-reactant pool counts; with them, the dissolved CH
+// units and the exposed CH voxels too. It also records that portlandite
+// has formed.
 func (e *Engine) chAvailable() float64 {
+	if e.s.Count[kinetics.CH] == 0 {
+		return e.s.CoPool[kinetics.CH]
+	}
+	e.s.CHSeen = true
 	molVox := e.voxCM3 / kinetics.Lookup(kinetics.CH).MolarVolumeCM3()
 	n := len(e.s.Free[kinetics.CH])
 	if d := e.dOf[kinetics.CH]; d >= 0 {
@@ -144,9 +152,6 @@ func (e *Engine) chAvailable() float64 {
 		for c := 1; c < classesPerPhase; c++ {
 			n += len(e.sets[base+c])
 		}
-	}
-	if n > 0 || e.s.Count[kinetics.CH] > 0 {
-		e.s.CHSeen = true
 	}
 	return e.s.CoPool[kinetics.CH] + float64(n)*molVox
 }

@@ -65,6 +65,10 @@ type Summary struct {
 	AtAge []AgeValues `json:"at_age"`
 	Final AgeValues   `json:"final"`
 
+	// Blend describes the SCMs of a blended binder; absent for a plain
+	// cement.
+	Blend *BlendSummary `json:"blend,omitempty"`
+
 	RelDiffusivity []DiffusivityAt `json:"rel_diffusivity"`
 
 	// Calorimetry holds the heat-flow landmarks and the heat at 12 h to
@@ -102,6 +106,57 @@ type AgeValues struct {
 	AFtGPer100G       float64  `json:"aft_g_per_100g"`
 	AFmGPer100G       float64  `json:"afm_g_per_100g"`
 	CSHGPer100G       float64  `json:"csh_g_per_100g"`
+}
+
+// BlendSummary is the blend part of summary.json.
+type BlendSummary struct {
+	WB   float64         `json:"w_b"`
+	SCMs []SCMAgeSummary `json:"scms"`
+	// CHRanOutH is the age at which an SCM first found no CH to react
+	// with (or, for slag, to be activated by); null when it never did.
+	CHRanOutH *float64 `json:"ch_ran_out_h"`
+	CHNote    string   `json:"ch_note"`
+}
+
+// SCMAgeSummary is one SCM's degree of reaction at the standard ages.
+type SCMAgeSummary struct {
+	Kind        string             `json:"kind"`
+	MassPercent float64            `json:"mass_percent_of_binder"`
+	Reaction    map[string]float64 `json:"degree_of_reaction"` // by age label ("1 d", "28 d")
+	Final       float64            `json:"degree_of_reaction_final"`
+}
+
+// CHNote explains ch_ran_out_h.
+const CHNote = "the pozzolanic reactions take CH from the solution and slag needs it as activator; where none can be had they stop, and resume only as cement hydration makes more"
+
+// blendSummary returns the blend part of the summary, or nil.
+func (h *hydration) blendSummary(m *Mix) *BlendSummary {
+	if !h.cfg.IsBlend() {
+		return nil
+	}
+	b := &BlendSummary{WB: h.cfg.Mix.WB, CHNote: CHNote}
+	if out, at := h.e.CHRanOut(); out {
+		b.CHRanOutH = ptr(at)
+	}
+	last := h.st.Samples[len(h.st.Samples)-1]
+	for _, sm := range m.SCMs {
+		col := -1
+		for k, id := range scmAlphaPhases {
+			if id == sm.Kind.Phase {
+				col = colAlphaSilicaFume + k
+			}
+		}
+		a := SCMAgeSummary{Kind: sm.Kind.Key, MassPercent: 100 * sm.MassFrac, Reaction: map[string]float64{}, Final: last[col]}
+		for _, age := range configs.StandardAgesH {
+			for _, r := range h.st.Samples {
+				if math.Abs(r[colTime]-age) < 1e-6 {
+					a.Reaction[ageLabel(age)] = r[col]
+				}
+			}
+		}
+		b.SCMs = append(b.SCMs, a)
+	}
+	return b
 }
 
 // Bases of summary.json and series.csv.
@@ -199,6 +254,7 @@ func (h *hydration) summary(m *Mix) *Summary {
 		}
 	}
 	s.Final = ageValues(h.st.Samples[len(h.st.Samples)-1])
+	s.Blend = h.blendSummary(m)
 	for k, t := range h.st.DiffAt {
 		d := DiffusivityAt{TimeH: t, Rel: h.st.Diff[k]}
 		for a := range 3 {
@@ -469,6 +525,17 @@ func mixRows(m *Mix, h *hydration) []render.Row {
 		{Label: "Cement", Value: nonEmpty(cfg.Cement.Name, "(unnamed)")},
 		{Label: "w/c", Value: fmt.Sprintf("%.3f", cfg.Mix.WC)},
 	}
+	if cfg.IsBlend() {
+		rows[1] = render.Row{Label: "w/b (water to binder: cement + SCMs)", Value: fmt.Sprintf("%.3f", cfg.Mix.WB)}
+		for _, sm := range m.SCMs {
+			rep := "particles"
+			if sm.SubVoxel {
+				rep = fmt.Sprintf("sub-voxel powder reacting by its own surface (%.3g µm²/µm³)", sm.SurfacePerUM)
+			}
+			rows = append(rows, render.Row{Label: "SCM: " + sm.Kind.Name, Value: fmt.Sprintf("%.1f %% of the binder by mass, %.0f %% amorphous, ρ %.2f g/cm³; %s (median %.2f µm); %s",
+				100*sm.MassFrac, 100*sm.Amorphous, sm.DensityGPerCM3, sm.PSD.String(), sm.PSD.MedianUM(), rep)})
+		}
+	}
 	vol := m.Comp.VolumeFractions()
 	ids := m.Comp.Present()
 	sort.Slice(ids, func(i, j int) bool { return ids[i] < ids[j] })
@@ -502,6 +569,22 @@ func resultRows(s *render.Series, sum *Summary) []render.Row {
 	for _, d := range sum.RelDiffusivity {
 		rows = append(rows, render.Row{Label: "D/D0 at " + ageLabel(d.TimeH), Value: fmt.Sprintf("x %.3g, y %.3g, z %.3g", d.Rel[0], d.Rel[1], d.Rel[2])})
 	}
+	if b := sum.Blend; b != nil {
+		for _, sc := range b.SCMs {
+			var parts []string
+			for _, age := range configs.StandardAgesH {
+				if v, ok := sc.Reaction[ageLabel(age)]; ok {
+					parts = append(parts, fmt.Sprintf("%s %.2f", ageLabel(age), v))
+				}
+			}
+			rows = append(rows, render.Row{Label: "Degree of reaction of the " + strings.ReplaceAll(sc.Kind, "_", " "), Value: strings.Join(parts, ", ")})
+		}
+		v := "CH lasted the whole run"
+		if b.CHRanOutH != nil {
+			v = fmt.Sprintf("CH ran out at %s: from then the SCM reactions were limited by CH (%s)", render.HoursMinutes(*b.CHRanOutH), b.CHNote)
+		}
+		rows = append(rows, render.Row{Label: "CH for the SCMs", Value: v})
+	}
 	rows = append(rows, calorimetryRows(sum)...)
 	if c := sum.Chloride; c != nil {
 		v := "no conducting path: 0"
@@ -515,7 +598,7 @@ func resultRows(s *render.Series, sum *Summary) []render.Row {
 	rows = append(rows,
 		render.Row{Label: "Gel–space ratio at the end (Powers)", Value: fmt.Sprintf("%.3f", f.GelSpaceRatio)},
 		render.Row{Label: "Porosity at the end, fraction of the paste", Value: fmt.Sprintf("capillary %.3f, gel %.3f, total %.3f", f.CapillaryPorosity, f.GelPorosity, f.TotalPorosity)},
-		render.Row{Label: "Contents at the end, g per 100 g of cement", Value: fmt.Sprintf("CH %.1f, bound water %.1f (compare TGA); AFt %.1f, AFm %.1f, C-S-H %.1f (compare XRD/Rietveld)", f.CHGPer100G, f.BoundWaterGPer100, f.AFtGPer100G, f.AFmGPer100G, f.CSHGPer100G)},
+		render.Row{Label: "Contents at the end, g per 100 g of cement (of binder for a blend)", Value: fmt.Sprintf("CH %.1f, bound water %.1f (compare TGA); AFt %.1f, AFm %.1f, C-S-H %.1f (compare XRD/Rietveld)", f.CHGPer100G, f.BoundWaterGPer100, f.AFtGPer100G, f.AFmGPer100G, f.CSHGPer100G)},
 	)
 	rows = append(rows, render.Row{Label: "Cost", Value: fmt.Sprintf("%d events in %.1f s", sum.Events, sum.WallS)})
 	return rows
