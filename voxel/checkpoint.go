@@ -137,6 +137,7 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 	}
 	for k := range e.sumW {
 		e.sumW[k], e.sumH[k] = 0, 0
+		e.nAccW[k], e.nAccH[k] = 0, 0
 	}
 	for c, set := range e.sets {
 		for k, i := range set {
@@ -147,6 +148,11 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 			e.slot[i] = int32(k)
 			e.sumW[c/classesPerPhase] += int(triW[c%classesPerPhase])
 			e.sumH[c/classesPerPhase] += int(triH[c%classesPerPhase])
+			if triW[c%classesPerPhase] > 0 {
+				e.nAccW[c/classesPerPhase]++
+			} else {
+				e.nAccH[c/classesPerPhase]++
+			}
 		}
 	}
 	e.pcg = &rand.PCG{}
@@ -171,6 +177,8 @@ func (e *Engine) Clone() *Engine {
 	}
 	c.sumW = append([]int(nil), e.sumW...)
 	c.sumH = append([]int(nil), e.sumH...)
+	c.nAccW = append([]int(nil), e.nAccW...)
+	c.nAccH = append([]int(nil), e.nAccH...)
 	c.arrD = append([]float64(nil), e.arrD...)
 	c.rates = append([]float64(nil), e.rates...)
 	c.s = e.s.clone()
