@@ -36,7 +36,11 @@ func firstNonFinite(v reflect.Value, prefix string) (string, float64, bool) {
 		}
 	case reflect.Slice, reflect.Array:
 		for i := 0; i < v.Len(); i++ {
-			if k, f, ok := firstNonFinite(v.Index(i), prefix); ok {
+			p := prefix // a list of numbers is one key (output.times_h)
+			if e := v.Index(i); e.Kind() == reflect.Struct {
+				p = joinKey(prefix, fmt.Sprint(i)) // an array of tables is reached by index (scm.0)
+			}
+			if k, f, ok := firstNonFinite(v.Index(i), p); ok {
 				return k, f, true
 			}
 		}

@@ -162,7 +162,7 @@ func DefaultParams() Params {
 			// Apparent activation energies of the SCM reactions are
 			// higher than the clinker's, about 50–60 kJ/mol (from memory,
 			// rough).
-			{Phase: SilicaFume, VelocityUMPerH: 1.5e-4, ThroughProduct: 0.3, SulfateFactor: 1, EaKJPerMol: 50},
+			{Phase: SilicaFume, VelocityUMPerH: 1e-4, ThroughProduct: 0.3, SulfateFactor: 1, EaKJPerMol: 50},
 			{Phase: FlyAsh, VelocityUMPerH: 0.0012, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: 55},
 			{Phase: Slag, VelocityUMPerH: 0.0035, ThroughProduct: 0.15, SulfateFactor: 1, EaKJPerMol: 50},
 			{Phase: Metakaolin, VelocityUMPerH: 0.003, ThroughProduct: 0.2, SulfateFactor: 1, EaKJPerMol: 50},

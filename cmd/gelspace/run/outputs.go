@@ -123,7 +123,7 @@ type SCMAgeSummary struct {
 	Kind        string             `json:"kind"`
 	MassPercent float64            `json:"mass_percent_of_binder"`
 	Reaction    map[string]float64 `json:"degree_of_reaction"` // by age label ("1 d", "28 d")
-	Final       float64            `json:"degree_of_reaction_final"`
+	Final       *float64           `json:"degree_of_reaction_final"` // null when the SCM is absent (0 %)
 }
 
 // CHNote explains ch_ran_out_h.
@@ -146,10 +146,13 @@ func (h *hydration) blendSummary(m *Mix) *BlendSummary {
 				col = colAlphaSilicaFume + k
 			}
 		}
-		a := SCMAgeSummary{Kind: sm.Kind.Key, MassPercent: 100 * sm.MassFrac, Reaction: map[string]float64{}, Final: last[col]}
+		a := SCMAgeSummary{Kind: sm.Kind.Key, MassPercent: 100 * sm.MassFrac, Reaction: map[string]float64{}}
+		if !math.IsNaN(last[col]) {
+			a.Final = ptr(last[col])
+		}
 		for _, age := range configs.StandardAgesH {
 			for _, r := range h.st.Samples {
-				if math.Abs(r[colTime]-age) < 1e-6 {
+				if math.Abs(r[colTime]-age) < 1e-6 && !math.IsNaN(r[col]) {
 					a.Reaction[ageLabel(age)] = r[col]
 				}
 			}

@@ -73,6 +73,7 @@ func Outputs() []Output {
 			}})
 	}
 	outs = append(outs,
+		Output{"ch_g_per_100g_final", "CH at the end, g per 100 g of binder", func(s *run.Summary) float64 { return s.Final.CHGPer100G }},
 		Output{"capillary_porosity_final", "capillary porosity at the end", func(s *run.Summary) float64 { return s.Final.CapillaryPorosity }},
 		Output{"rel_diffusivity_final", "D/D0 at the end (mean of x, y, z)", func(s *run.Summary) float64 {
 			for _, d := range s.RelDiffusivity {
@@ -298,8 +299,13 @@ func writeStatsCSV(w io.Writer, pl *Plan, rows []Row) error {
 	for _, o := range Outputs() {
 		head = append(head, o.Name+"_n", o.Name+"_mean", o.Name+"_sd", o.Name+"_ci95")
 	}
-	b.WriteString(strings.Join(head, ",") + "\n")
 	first, stats, runs := pointStats(rows)
+	ref := plainReference(pl, first)
+	if ref != nil {
+		head = append(head, "ch_vs_plain_final")
+	}
+	b.WriteString(strings.Join(head, ",") + "\n")
+	chCol := outputIndex("ch_g_per_100g_final")
 	for i, r := range first {
 		cells := []string{strconv.Itoa(r.P.Point)}
 		for ai, a := range pl.Axes {
@@ -309,10 +315,72 @@ func writeStatsCSV(w io.Writer, pl *Plan, rows []Row) error {
 		for _, s := range stats[i] {
 			cells = append(cells, strconv.Itoa(s.N), fmtCell(s.Mean), fmtCell(s.SD), fmtCell(s.CI95))
 		}
+		if ref != nil {
+			v := math.NaN()
+			if j := ref[i]; j >= 0 {
+				v = stats[i][chCol].Mean / stats[j][chCol].Mean
+			}
+			cells = append(cells, fmtCell(v))
+		}
 		b.WriteString(strings.Join(cells, ",") + "\n")
 	}
 	_, err := w.Write(b.Bytes())
 	return err
+}
+
+// outputIndex returns the index of the output named name in Outputs.
+func outputIndex(name string) int {
+	for k, o := range Outputs() {
+		if o.Name == name {
+			return k
+		}
+	}
+	panic("sweep: no output " + name)
+}
+
+// plainReference finds, for a sweep over SCM contents, each point's plain
+// cement: the point with every scm.N.mass_percent axis at 0 and the other
+// axes as the point's. It returns, per point in first, the index in first
+// of its reference (−1 when there is none), or nil when no axis is an SCM
+// content with a 0 % value.
+func plainReference(pl *Plan, first []Row) []int {
+	isSCM := make([]bool, len(pl.Axes))
+	any := false
+	for ai, a := range pl.Axes {
+		if strings.HasPrefix(a.Key, "scm.") && strings.HasSuffix(a.Key, ".mass_percent") {
+			for _, v := range a.Values {
+				if f, err := strconv.ParseFloat(v, 64); err == nil && f == 0 {
+					isSCM[ai], any = true, true
+				}
+			}
+		}
+	}
+	if !any {
+		return nil
+	}
+	zero := func(ai, vi int) bool {
+		f, err := strconv.ParseFloat(pl.Axes[ai].Values[vi], 64)
+		return err == nil && f == 0
+	}
+	ref := make([]int, len(first))
+	for i, r := range first {
+		ref[i] = -1
+		for j, q := range first {
+			ok := true
+			for ai := range pl.Axes {
+				if isSCM[ai] {
+					ok = ok && zero(ai, q.P.Values[ai])
+				} else {
+					ok = ok && q.P.Values[ai] == r.P.Values[ai]
+				}
+			}
+			if ok {
+				ref[i] = j
+				break
+			}
+		}
+	}
+	return ref
 }
 
 // WriteSummaries writes summary.csv, summary_stats.csv and the plots
