@@ -185,8 +185,8 @@ func DefaultParams() Params {
 		ProductDensifyK:         10,
 		Growth: []Growth{
 			{Product: CSHOuter,
-				On:     map[ID]float64{CSHInner: 0.15, CSHOuter: 0.15, PozzCSH: 0.15, Calcite: 0.01},
-				Seeds:  []ID{CSHInner, CSHOuter, PozzCSH},
+				On:    map[ID]float64{CSHInner: 0.15, CSHOuter: 0.15, PozzCSH: 0.15, Calcite: 0.01},
+				Seeds: []ID{CSHInner, CSHOuter, PozzCSH},
 				Seeded: map[ID]float64{C3S: 1, C2S: 1, C3A: 0.5, C4AF: 0.5, CH: 0.5, AFt: 0.5, AFm: 0.5, Calcite: 0.5, Inert: 0.3, Gypsum: 0.3,
 					SilicaFume: 0.5, FlyAsh: 0.5, Slag: 0.5, Metakaolin: 0.5}},
 			// The low-Ca C-S-H grows on the SCM it comes from and on any

@@ -23,19 +23,19 @@ type Engine struct {
 	cementG float64 // mass of the whole cement (clinker, sulfate, fillers) in the box at the start, g
 
 	// Dissolving phases, by index d.
-	dph      []kinetics.ID
-	dOf      [kinetics.NumIDs]int8 // phase → d, or −1
-	velPerS  []float64             // v/h, 1/s per exposed face at 20 °C
-	beta     []float64
-	sulfFac  []float64
-	ea       []float64
-	rxOfD    []int                  // reaction index for phases with one reaction, −1 otherwise
-	seq      [kinetics.NumIDs][]int // reaction indices of kinetics.Sequence, by primary phase
-	cls      []uint16               // class of each voxel, d*classesPerPhase + exposure, or noClass
-	slot     []int32
-	sets     [][]int32 // d*classesPerPhase + exposure class → members
-	sumW     []int     // per d: Σ faces touching water
-	sumH     []int     // per d: Σ faces touching hydrate (product)
+	dph     []kinetics.ID
+	dOf     [kinetics.NumIDs]int8 // phase → d, or −1
+	velPerS []float64             // v/h, 1/s per exposed face at 20 °C
+	beta    []float64
+	sulfFac []float64
+	ea      []float64
+	rxOfD   []int                  // reaction index for phases with one reaction, −1 otherwise
+	seq     [kinetics.NumIDs][]int // reaction indices of kinetics.Sequence, by primary phase
+	cls     []uint16               // class of each voxel, d*classesPerPhase + exposure, or noClass
+	slot    []int32
+	sets    [][]int32 // d*classesPerPhase + exposure class → members
+	sumW    []int     // per d: Σ faces touching water
+	sumH    []int     // per d: Σ faces touching hydrate (product)
 	// bulk is S_v·h for a sub-voxel powder (kinetics.Dissolution
 	// SurfacePerUM): the faces' worth of surface in each of its voxels; 0
 	// for the face law. nAccW and nAccH count, per d, the exposed voxels
@@ -45,8 +45,8 @@ type Engine struct {
 	// chNeed is, per d, the CH (mol) one voxel of an SCM takes from the
 	// solution (0 for slag, which needs CH only as activator), or −1 for
 	// the other phases; anySCM says whether any d has one.
-	chNeed []float64
-	anySCM bool
+	chNeed   []float64
+	anySCM   bool
 	sulfMol  []float64 // per d: mol per µm³ for sulfate carriers, 0 otherwise
 	rules    [kinetics.NumIDs]*stickRule
 	anySolid stickRule     // rule for trapped units

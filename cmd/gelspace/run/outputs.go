@@ -122,7 +122,7 @@ type BlendSummary struct {
 type SCMAgeSummary struct {
 	Kind        string             `json:"kind"`
 	MassPercent float64            `json:"mass_percent_of_binder"`
-	Reaction    map[string]float64 `json:"degree_of_reaction"` // by age label ("1 d", "28 d")
+	Reaction    map[string]float64 `json:"degree_of_reaction"`       // by age label ("1 d", "28 d")
 	Final       *float64           `json:"degree_of_reaction_final"` // null when the SCM is absent (0 %)
 }
 
