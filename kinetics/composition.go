@@ -38,8 +38,12 @@ func NewComposition(massPercent map[string]float64) (*Composition, error) {
 	for _, k := range keys {
 		v := massPercent[k]
 		p := ByKey(k)
-		if p == nil || !IsAnhydrous(p.ID) {
-			return nil, fmt.Errorf("unknown phase %q (allowed: %s)", k, strings.Join(Keys(RoleClinker, RoleSulfate, RoleFiller), ", "))
+		if p == nil || (p.Role != RoleClinker && p.Role != RoleSulfate && p.Role != RoleFiller) {
+			msg := fmt.Sprintf("unknown phase %q (allowed: %s)", k, strings.Join(Keys(RoleClinker, RoleSulfate, RoleFiller), ", "))
+			if p != nil && p.Role == RoleSCM {
+				msg += "; give an SCM as an [[scm]] entry"
+			}
+			return nil, fmt.Errorf("%s", msg)
 		}
 		if math.IsNaN(v) || v < 0 || v > 100 {
 			return nil, fmt.Errorf("phase %q = %g mass %%: must be between 0 and 100", k, v)

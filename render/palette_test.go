@@ -241,10 +241,13 @@ func meanZ(f map[string]float64) float64 {
 	// Standard atomic weights (IUPAC, abridged) — common practice.
 	el := map[string]struct{ z, m float64 }{
 		"H": {1, 1.008}, "C": {6, 12.011}, "O": {8, 15.999}, "Al": {13, 26.982}, "Si": {14, 28.085},
-		"S": {16, 32.06}, "Ca": {20, 40.078}, "Fe": {26, 55.845},
+		"Mg": {12, 24.305}, "S": {16, 32.06}, "Ca": {20, 40.078}, "Fe": {26, 55.845},
 	}
 	var zm, m float64
 	for e, n := range f {
+		if _, ok := el[e]; !ok {
+			panic("meanZ: no atomic weight for " + e)
+		}
 		zm += n * el[e].m * el[e].z
 		m += n * el[e].m
 	}
@@ -256,26 +259,33 @@ func meanZ(f map[string]float64) float64 {
 // cement chemist notation: C = CaO, S = SiO2, A = Al2O3, F = Fe2O3,
 // S̄ = SO3, C̄ = CO2, H = H2O). The empty pore holds no matter.
 var meanZFormulas = map[string]map[string]float64{
-	"water":         {"H": 2, "O": 1},                               // H2O
-	"empty":         {},                                             // vacuum (mean Z 0)
-	"c3s":           {"Ca": 3, "Si": 1, "O": 5},                     // Ca3SiO5
-	"c2s":           {"Ca": 2, "Si": 1, "O": 4},                     // Ca2SiO4
-	"c3a":           {"Ca": 3, "Al": 2, "O": 6},                     // Ca3Al2O6
-	"c4af":          {"Ca": 4, "Al": 2, "Fe": 2, "O": 10},           // Ca4Al2Fe2O10
-	"gypsum":        {"Ca": 1, "S": 1, "O": 6, "H": 4},              // CaSO4·2H2O
-	"hemihydrate":   {"Ca": 1, "S": 1, "O": 4.5, "H": 1},            // CaSO4·0.5H2O
-	"anhydrite":     {"Ca": 1, "S": 1, "O": 4},                      // CaSO4
-	"calcite":       {"Ca": 1, "C": 1, "O": 3},                      // CaCO3
-	"inert":         {"Si": 1, "O": 2},                              // SiO2 (quartz-like)
-	"csh_inner":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},         // C1.7SH4
-	"csh_outer":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},         // C1.7SH4
-	"ch":            {"Ca": 1, "O": 2, "H": 2},                      // Ca(OH)2
-	"aft":           {"Ca": 6, "Al": 2, "S": 3, "O": 50, "H": 64},   // Ca6Al2(SO4)3(OH)12·26H2O
-	"afm":           {"Ca": 4, "Al": 2, "S": 1, "O": 22, "H": 24},   // Ca4Al2(SO4)(OH)12·6H2O
-	"hydrogarnet":   {"Ca": 3, "Al": 2, "O": 12, "H": 12},           // Ca3Al2(OH)12
-	"fh3":           {"Fe": 2, "O": 6, "H": 6},                      // Fe2O3·3H2O = 2 Fe(OH)3
-	"monocarbonate": {"Ca": 4, "Al": 2, "C": 1, "O": 20, "H": 22},   // 3CaO·Al2O3·CaCO3·11H2O
-	"hemicarbonate": {"Ca": 4, "Al": 2, "C": 0.5, "O": 20, "H": 24}, // 3CaO·Al2O3·0.5CaCO3·0.5Ca(OH)2·11.5H2O
+	"water":         {"H": 2, "O": 1},                                       // H2O
+	"empty":         {},                                                     // vacuum (mean Z 0)
+	"c3s":           {"Ca": 3, "Si": 1, "O": 5},                             // Ca3SiO5
+	"c2s":           {"Ca": 2, "Si": 1, "O": 4},                             // Ca2SiO4
+	"c3a":           {"Ca": 3, "Al": 2, "O": 6},                             // Ca3Al2O6
+	"c4af":          {"Ca": 4, "Al": 2, "Fe": 2, "O": 10},                   // Ca4Al2Fe2O10
+	"gypsum":        {"Ca": 1, "S": 1, "O": 6, "H": 4},                      // CaSO4·2H2O
+	"hemihydrate":   {"Ca": 1, "S": 1, "O": 4.5, "H": 1},                    // CaSO4·0.5H2O
+	"anhydrite":     {"Ca": 1, "S": 1, "O": 4},                              // CaSO4
+	"calcite":       {"Ca": 1, "C": 1, "O": 3},                              // CaCO3
+	"inert":         {"Si": 1, "O": 2},                                      // SiO2 (quartz-like)
+	"csh_inner":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},                 // C1.7SH4
+	"csh_outer":     {"Ca": 1.7, "Si": 1, "O": 7.7, "H": 8},                 // C1.7SH4
+	"ch":            {"Ca": 1, "O": 2, "H": 2},                              // Ca(OH)2
+	"aft":           {"Ca": 6, "Al": 2, "S": 3, "O": 50, "H": 64},           // Ca6Al2(SO4)3(OH)12·26H2O
+	"afm":           {"Ca": 4, "Al": 2, "S": 1, "O": 22, "H": 24},           // Ca4Al2(SO4)(OH)12·6H2O
+	"hydrogarnet":   {"Ca": 3, "Al": 2, "O": 12, "H": 12},                   // Ca3Al2(OH)12
+	"fh3":           {"Fe": 2, "O": 6, "H": 6},                              // Fe2O3·3H2O = 2 Fe(OH)3
+	"silica_fume":   {"Si": 1, "O": 2},                                      // SiO2
+	"fly_ash":       {"Si": 1, "Al": 0.5, "Ca": 0.1, "O": 2.85},             // SA0.25C0.1
+	"slag":          {"Ca": 1.2, "Si": 1, "Al": 0.32, "Mg": 0.4, "O": 4.08}, // C1.2SA0.16M0.4
+	"metakaolin":    {"Al": 2, "Si": 2, "O": 7},                             // Al2O3·2SiO2
+	"csh_pozz":      {"Ca": 1.1, "Si": 1, "O": 6.5, "H": 6.8},               // C1.1SH3.4
+	"stratlingite":  {"Ca": 2, "Al": 2, "Si": 1, "O": 15, "H": 16},          // C2ASH8
+	"hydrotalcite":  {"Mg": 4, "Al": 2, "O": 17, "H": 20},                   // M4AH10
+	"monocarbonate": {"Ca": 4, "Al": 2, "C": 1, "O": 20, "H": 22},           // 3CaO·Al2O3·CaCO3·11H2O
+	"hemicarbonate": {"Ca": 4, "Al": 2, "C": 0.5, "O": 20, "H": 24},         // 3CaO·Al2O3·0.5CaCO3·0.5Ca(OH)2·11.5H2O
 }
 
 // Every phase's mean Z is that of its formula, the hydrates with their

@@ -103,10 +103,31 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 			"particle_ids":      "1, 2, … in placement order (largest first); 0 is the original water space",
 			"phase_assignments": "clinker grains are shared among C3S, C2S, C3A and C4AF by a periodic value-noise field with cells of pack.phase_domain_um and exact quantile thresholds, unless pack.clinker_grains = \"monomineral\"",
 		}}
-	for _, p := range pops {
+	// An SCM's inert part shares the SCM's particles and is counted there,
+	// apart from the cement's own inert filler.
+	var inPop [256][kinetics.NumIDs]int
+	if len(m.SCMs) > 0 {
+		for i, ph := range g.Phase {
+			if p := g.Particle[i]; p > 0 && int(p) < len(res.Pop) {
+				inPop[res.Pop[p]][ph]++
+			}
+		}
+	}
+	for pi, p := range pops {
+		sm := m.scmOf(p)
 		for k, id := range p.Phases {
-			rep.Phases = append(rep.Phases, PhaseFit{Key: kinetics.Lookup(id).Key, TargetFraction: m.Paste[id],
-				Achieved: float64(cnt[id]) / n, TargetVoxels: p.Voxels[k], Voxels: cnt[id]})
+			key, target, got := kinetics.Lookup(id).Key, m.CementPaste[id], cnt[id]
+			if sm != nil || (id == kinetics.Inert && len(m.SCMs) > 0) {
+				got = inPop[pi][id]
+			}
+			if sm != nil {
+				target = sm.PasteGlass
+				if id == kinetics.Inert {
+					key, target = "inert ("+sm.Kind.Key+")", sm.PasteCryst
+				}
+			}
+			rep.Phases = append(rep.Phases, PhaseFit{Key: key, TargetFraction: target,
+				Achieved: float64(got) / n, TargetVoxels: p.Voxels[k], Voxels: got})
 		}
 	}
 	rep.Phases = append(rep.Phases, PhaseFit{Key: "water", TargetFraction: m.Paste[kinetics.Water],
@@ -139,6 +160,16 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 		}
 	}
 	return rep
+}
+
+// scmOf returns the SCM whose particles population p is, or nil.
+func (m *Mix) scmOf(p voxel.Population) *SCMMix {
+	for i := range m.SCMs {
+		if p.Phases[0] == m.SCMs[i].Kind.Phase {
+			return &m.SCMs[i]
+		}
+	}
+	return nil
 }
 
 func sumTargets(pops []voxel.Population) int {
