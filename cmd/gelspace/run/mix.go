@@ -24,6 +24,13 @@ type Mix struct {
 	SolidFraction float64
 	// Paste is the volume fraction of each phase in the fresh paste.
 	Paste [kinetics.NumIDs]float64
+	// Box is the volume fraction of each phase in the lattice: all the
+	// mix's water and the powder fine enough for the box. The powder
+	// coarser than the box's largest class is carried by the engine
+	// (voxel.Engine.Carry): Carried is its volume per phase per lattice
+	// voxel, CoarseBins its size classes.
+	Box, Carried [kinetics.NumIDs]float64
+	CoarseBins   []voxel.CoarseBin
 }
 
 // Resolve turns a validated config into a Mix: the composition (Bogue
@@ -74,7 +81,48 @@ func Resolve(cfg *configs.Config) (*Mix, error) {
 	}
 	m.SolidFraction = m.Comp.SolidVolumeFraction(cfg.Mix.WC)
 	m.Paste = m.Comp.PasteVolumeFractions(cfg.Mix.WC)
+	m.splitCoarse()
 	return m, nil
+}
+
+// splitCoarse shares the paste between the lattice and the carried coarse
+// grains: with T the powder's fraction coarser than the box's largest
+// class and φ_s the solid fraction of the paste, the lattice is the paste
+// less the coarse grains, of volume 1 − φ_s·T per volume of paste, so a
+// phase's lattice fraction is φ_i (1 − T)/(1 − φ_s T) (water: φ_w/(1 − φ_s T))
+// and its carried volume φ_i T/(1 − φ_s T) per lattice voxel. The lattice
+// holds all the water of the mix at its w/c.
+func (m *Mix) splitCoarse() {
+	t := m.Classes.Truncated
+	den := 1 - m.SolidFraction*t
+	for id, f := range m.Paste {
+		switch {
+		case kinetics.ID(id) == kinetics.Water:
+			m.Box[id] = f / den
+		case kinetics.IsAnhydrous(kinetics.ID(id)) && f > 0:
+			m.Box[id] = f * (1 - t) / den
+			m.Carried[id] = f * t / den
+		}
+	}
+	m.CoarseBins = m.PSD.CoarseTail(m.Classes.VoxelUM, m.Classes.MaxDiameter)
+}
+
+// NewEngine prepares the engine for a packed lattice g of the mix and
+// gives it the mix's carried coarse grains.
+func (m *Mix) NewEngine(g *voxel.Grid, set voxel.EngineSettings) (*voxel.Engine, error) {
+	e, err := voxel.NewEngine(g, set)
+	if err != nil {
+		return nil, err
+	}
+	var vox [kinetics.NumIDs]float64
+	n := float64(g.Len())
+	for id, f := range m.Carried {
+		vox[id] = f * n
+	}
+	if err := e.Carry(voxel.CarriedPopulations(vox, clinkerGrains(m.Cfg.Pack)), m.CoarseBins); err != nil {
+		return nil, err
+	}
+	return e, nil
 }
 
 // MixReport is the JSON form of a resolved mix (gelspace mix --json, and

@@ -18,7 +18,7 @@ import (
 func Pack(m *Mix) (*voxel.PackResult, error) {
 	c := m.Cfg
 	n := c.Box.Voxels
-	pops := voxel.Populations(m.Paste, n*n*n, clinkerGrains(c.Pack))
+	pops := voxel.Populations(m.Box, n*n*n, clinkerGrains(c.Pack))
 	res, err := voxel.Pack(voxel.PackSpec{NX: n, NY: n, NZ: n, VoxelUM: c.Box.VoxelUM, Classes: m.Classes, Pops: pops,
 		SpacingVoxels: c.Pack.SpacingVoxels(c.Box.VoxelUM), DomainUM: c.Pack.PhaseDomainUM, Seed: uint64(c.Seed)})
 	if err != nil {
@@ -87,9 +87,9 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 	n := float64(g.Len())
 	cnt := g.Count()
 	c := m.Cfg
-	pops := voxel.Populations(m.Paste, g.Len(), clinkerGrains(c.Pack))
+	pops := voxel.Populations(m.Box, g.Len(), clinkerGrains(c.Pack))
 	rep := PackReport{Version: Version, Seed: c.Seed, Mix: m.Report(), Pack: c.Pack, Voxels: [3]int{g.NX, g.NY, g.NZ},
-		VoxelUM: g.VoxelUM, SolidTarget: m.SolidFraction, SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
+		VoxelUM: g.VoxelUM, SolidTarget: 1 - m.Box[kinetics.Water], SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
 		SurfaceVoxel: voxel.SpecificSurfaceM2PerKg(g), Attempts: res.Attempts, Scans: res.Scans, WallS: wall,
 		ClassCounts: map[string][]int{},
 		Files: map[string]string{"pack.vti": "VTK XML ImageData, cell arrays phase (UInt8) and particle (Int32)",
@@ -97,7 +97,7 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 		Notes: map[string]string{
 			"target_fraction":   "phase volume fraction of the fresh paste from the mass fractions, the phase densities and w/c",
 			"fines":             "the powder finer than one voxel is merged into the 1-voxel class",
-			"truncation":        "particles are at most half the box edge; the coarser tail is left out and the rest scaled up",
+			"truncation":        "particles are at most half the box edge; the coarser powder is not packed but carried by the engine as shrinking spheres outside the lattice (see the mix's psd.carried_fraction), so the lattice holds all the mix's water and the finer powder: its solid fraction target is below the paste's",
 			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box, m² per kg of powder; voxel faces overstate the surface from the PSD (smooth spheres), and neither is a Blaine fineness",
 			"packed_median":     "volume-weighted median of the particles' class diameters",
 			"particle_ids":      "1, 2, … in placement order (largest first); 0 is the original water space",
@@ -105,11 +105,11 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 		}}
 	for _, p := range pops {
 		for k, id := range p.Phases {
-			rep.Phases = append(rep.Phases, PhaseFit{Key: kinetics.Lookup(id).Key, TargetFraction: m.Paste[id],
+			rep.Phases = append(rep.Phases, PhaseFit{Key: kinetics.Lookup(id).Key, TargetFraction: m.Box[id],
 				Achieved: float64(cnt[id]) / n, TargetVoxels: p.Voxels[k], Voxels: cnt[id]})
 		}
 	}
-	rep.Phases = append(rep.Phases, PhaseFit{Key: "water", TargetFraction: m.Paste[kinetics.Water],
+	rep.Phases = append(rep.Phases, PhaseFit{Key: "water", TargetFraction: m.Box[kinetics.Water],
 		Achieved: float64(cnt[kinetics.Water]) / n, TargetVoxels: g.Len() - sumTargets(pops), Voxels: cnt[kinetics.Water]})
 	for pi, p := range pops {
 		name := kinetics.Lookup(p.Phases[0]).Key
