@@ -170,11 +170,38 @@ type PSDReport struct {
 	SurfaceVoxelM2PerKg   float64 `json:"specific_surface_digitised_m2_per_kg"`
 	FinerThanVoxel        float64 `json:"finer_than_voxel_fraction"`
 	FineRepresentation    string  `json:"fine_representation"`
-	Truncated             float64 `json:"truncated_fraction"`
 	MaxDiameterVoxels     int     `json:"max_diameter_voxels"`
 	MaxDiameterUM         float64 `json:"max_diameter_um"`
 	DigitisedMedianVoxels int     `json:"digitised_median_voxels"`
+	// Carried is the powder's mass fraction coarser than the largest
+	// packed particle, carried by the engine as shrinking spheres outside
+	// the lattice (CarriedRepresentation).
+	Carried               float64 `json:"carried_fraction"`
+	CarriedBins           int     `json:"carried_size_bins"`
+	CarriedMaxUM          float64 `json:"carried_max_diameter_um"`
+	CarriedRepresentation string  `json:"carried_representation"`
+	// RosinRammler is the law of a Rosin–Rammler PSD, or the law fitted
+	// to a measured table with its quality.
+	RosinRammler *RRReport `json:"rosin_rammler"`
+	SurfaceNote  string    `json:"specific_surface_note"`
 }
+
+// RRReport is a Rosin–Rammler law and, for a fit to a table, how well it
+// fits.
+type RRReport struct {
+	Source        string  `json:"source"` // "given" or "fitted to the table …"
+	XUM           float64 `json:"x_um"`
+	N             float64 `json:"n"`
+	R2            float64 `json:"r2"`
+	MaxDevPercent float64 `json:"max_dev_percent"`
+	Rows          int     `json:"rows_used"`
+}
+
+// CarriedNote describes the carried coarse grains, for reports.
+const CarriedNote = "grains coarser than the box's largest particle are not packed but carried by the engine as shrinking spheres per size bin (polymineral clinker with the phase shares, sulfates and fillers apart) that dissolve by the lattice's surface law and solution state and put their products into the box's pores; their volume is virtual (outside the lattice), their mass counts in every per-gram value and in alpha"
+
+// SurfaceNote says what the PSD's specific surface is.
+const SurfaceNote = "specific surface of the PSD taken as smooth spheres of the powder's density, 6000/(rho x) m2/kg integrated over the distribution; not a Blaine fineness (air permeability, EN 196-6, ASTM C204): the two differ by a factor that depends on the cement (grain shape, roughness, fines)"
 
 // Report returns the JSON form of the mix.
 func (m *Mix) Report() MixReport {
@@ -196,8 +223,19 @@ func (m *Mix) Report() MixReport {
 		D90UM: m.PSD.QuantileUM(0.9), SurfaceSpheresM2PerKg: m.PSD.SpecificSurfaceM2PerKg(rho),
 		SurfaceVoxelM2PerKg: c.SpecificSurfaceM2PerKg(rho), FinerThanVoxel: c.FinerThanVoxel,
 		FineRepresentation: "merged into the 1-voxel class (single-voxel particles)",
-		Truncated:          c.Truncated, MaxDiameterVoxels: c.MaxDiameter,
-		MaxDiameterUM: float64(c.MaxDiameter) * c.VoxelUM, DigitisedMedianVoxels: c.MedianDiameter()}
+		MaxDiameterVoxels:  c.MaxDiameter,
+		MaxDiameterUM:      float64(c.MaxDiameter) * c.VoxelUM, DigitisedMedianVoxels: c.MedianDiameter(),
+		Carried: c.Truncated, CarriedBins: len(m.CoarseBins), CarriedRepresentation: CarriedNote, SurfaceNote: SurfaceNote}
+	if n := len(m.CoarseBins); n > 0 {
+		rep.PSD.CarriedMaxUM = m.CoarseBins[n-1].DiameterUM
+	}
+	if fit, err := m.PSD.FitRosinRammler(); err == nil {
+		src := "fitted to the table (least squares on the RRSB plot, DIN 66145)"
+		if m.Cfg.PSD.RosinRammler != nil {
+			src = "given"
+		}
+		rep.PSD.RosinRammler = &RRReport{Source: src, XUM: fit.XUM, N: fit.N, R2: fit.R2, MaxDevPercent: fit.MaxDevPercent, Rows: fit.Rows}
+	}
 	return rep
 }
 
