@@ -295,6 +295,10 @@ func (e *Engine) CarriedAlpha() float64 {
 	return num / den
 }
 
+// CarriedVoid returns the water-filled virtual pore volume in the carried
+// grains' outlines (what dissolved without solid product), voxels.
+func (e *Engine) CarriedVoid() float64 { return e.s.Coarse.Void }
+
 // CarriedVoxels returns the virtual volume Vc of the carried grains'
 // outlines, in voxels.
 func (e *Engine) CarriedVoxels() float64 { return e.s.Coarse.Volume }

@@ -41,7 +41,7 @@ type Summary struct {
 	} `json:"mix"`
 	// Carried is the powder carried outside the box as coarse grains.
 	Carried CarriedSummary `json:"carried"`
-	Box struct {
+	Box     struct {
 		Voxels  int     `json:"voxels"`
 		VoxelUM float64 `json:"voxel_um"`
 	} `json:"box"`
@@ -93,7 +93,11 @@ type CarriedSummary struct {
 	MassFraction float64 `json:"mass_fraction"`
 	// PasteVolumeFraction is their outlines' (virtual) share of the paste
 	// volume.
-	PasteVolumeFraction float64  `json:"paste_volume_fraction"`
+	PasteVolumeFraction float64 `json:"paste_volume_fraction"`
+	// VirtualPoreFraction is the water-filled pore space inside the
+	// outlines, left by carried sulfate that dissolved without solid
+	// product, as a fraction of the paste (counted in capillary_porosity).
+	VirtualPoreFraction float64  `json:"virtual_pore_fraction"`
 	AlphaFinal          *float64 `json:"alpha_final"` // null when nothing is carried
 	Note                string   `json:"note"`
 }
@@ -195,7 +199,8 @@ func (h *hydration) summary(m *Mix) *Summary {
 	s.Mix.PSD = m.PSD.String()
 	s.Mix.PSDMedianUM = m.PSD.MedianUM()
 	s.Mix.PSDStats = m.Report().PSD
-	s.Carried = CarriedSummary{MassFraction: h.e.CarriedFraction(), PasteVolumeFraction: h.e.CarriedVoxels() / h.e.PasteVoxels(), Note: CarriedNote}
+	s.Carried = CarriedSummary{MassFraction: h.e.CarriedFraction(), PasteVolumeFraction: h.e.CarriedVoxels() / h.e.PasteVoxels(),
+		VirtualPoreFraction: h.e.CarriedVoid() / h.e.PasteVoxels(), Note: CarriedNote}
 	if a := h.e.CarriedAlpha(); !math.IsNaN(a) {
 		s.Carried.AlphaFinal = &a
 	}
