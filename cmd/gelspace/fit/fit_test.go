@@ -60,7 +60,7 @@ const fitRecoveryTol = 0.10
 // it is only required to stay inside the search box, and fit.json flags it
 // when the misfit hardly moves with it.
 func TestFitRecoversSynthetic(t *testing.T) {
-	cfg, err := configs.Load("", []string{"box.voxels=32", "psd.rosin_rammler.x_um=8", "curing.until_h=336", "output.times_h=[]"})
+	cfg, err := configs.Load("", []string{"box.voxels=30", "curing.until_h=336", "output.times_h=[]"})
 	if err != nil {
 		t.Fatal(err)
 	}
