@@ -206,5 +206,6 @@ func (s state) clone() state {
 	c.PartLeft = append([]int32(nil), s.PartLeft...)
 	c.EmptyList = append([]int32(nil), s.EmptyList...)
 	c.RNG = append([]byte(nil), s.RNG...)
+	c.Coarse = s.Coarse.clone()
 	return c
 }

@@ -119,6 +119,22 @@
 // largest city-block distance to a solid) as the shrinkage grows, and
 // hydration slows and stops as the water runs out.
 //
+// Carried coarse grains. The powder coarser than the box's largest class
+// (half its edge) is not packed but carried by the engine (Engine.Carry,
+// coarse.go) as populations of shrinking spheres per size bin: they
+// dissolve by the same per-phase law as the lattice's surface voxels, on
+// the area a digitised sphere of their size would have, covered by product
+// as the lattice's grains of the same phase are, slowed by their own
+// reacted depth, in the same solution; one voxel of product per voxel
+// reacted stays in their outline as inner product and the rest
+// precipitates in the lattice's pores, so they share its water and space.
+// The lattice holds all the water of the mix at its w/c and the finer
+// powder; the carried grains' volume is virtual (their outlines, Vc, are
+// added to the lattice to make the paste). Their space is not taken from
+// the lattice's pores: the lattice holds exactly the mix's water and finer
+// powder, and the real coarse grains are solid outside it. The full model
+// and what is not carried over are in coarse.go.
+//
 // Calibration. The defaults put the default cement (RW-G: C3S 58, C2S 17,
 // C3A 7.5, C4AF 10.5, gypsum 5, limestone 2 mass %; Rosin–Rammler x′ 14 µm,
 // n 1.05) at w/c 0.5, 20 °C, saturated, on the 100³ box of 1 µm voxels,

@@ -71,6 +71,10 @@ type Engine struct {
 	partInit []int32
 	// guard, when set, is called every GuardEvery events (see SetGuard).
 	guard func(events uint64, timeS float64) error
+	// cc caches sums over the carried coarse grains (coarse.go); kappa is
+	// the digitised sphere's face ratio they use.
+	cc    coarseCache
+	kappa float64
 }
 
 // GuardEvery is how often, in events, AdvanceTo calls the guard.
@@ -110,13 +114,14 @@ type state struct {
 	EmptyList []int32
 	EmptyPos  int
 	WaterOut  bool // sealed: shrinkage could not be emptied (no water left)
-	// CHSeen records that portlandite has formed; CHOut that, after it had, an SCM
-	// with exposed surface could not react for want of CH, first at
-	// CHOutS (s).
+	// CHSeen records that portlandite has formed; CHOut that, after it
+	// had, an SCM with exposed surface could not react for want of CH,
+	// first at CHOutS (s).
 	CHSeen bool
 	CHOut  bool
 	CHOutS float64
 	RNG    []byte
+	Coarse coarseState // carried coarse grains (coarse.go)
 }
 
 // maxFails is the number of failed precipitation attempts after which a
@@ -286,7 +291,9 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	e.buildClasses()
 	e.arrT = math.NaN()
 	e.arrD = make([]float64, len(e.dph))
-	e.rates = make([]float64, len(e.dph)+2+len(e.products))
+	// the lattice's events, then one carried event per dissolving phase
+	e.rates = make([]float64, 2*len(e.dph)+2+len(e.products))
+	e.kappa = sphereFaceRatio()
 	return e, nil
 }
 
@@ -303,6 +310,7 @@ func (e *Engine) setCementMass() {
 			e.cementG += float64(e.s.Initial[ph.ID]) * ph.DensityGPerCM3 * e.voxCM3
 		}
 	}
+	e.cementG += e.coarseMassG()
 }
 
 // buildClasses puts every exposed voxel of a dissolving phase in its class,
@@ -434,22 +442,25 @@ func (e *Engine) Grid() *Grid { return e.g }
 func (e *Engine) Events() (events, steps uint64) { return e.s.Events, e.s.Steps }
 
 // AlphaOf returns the degree of hydration of one phase: the fraction of its
-// initial voxels that have reacted. NaN when the box had none.
+// initial voxels, in the lattice and carried, that have reacted. NaN when
+// the paste had none.
 func (e *Engine) AlphaOf(id kinetics.ID) float64 {
-	if e.s.Initial[id] == 0 {
+	den := float64(e.s.Initial[id]) + e.s.Coarse.Initial[id]
+	if den == 0 {
 		return math.NaN()
 	}
-	return float64(e.s.Reacted[id]) / float64(e.s.Initial[id])
+	return (float64(e.s.Reacted[id]) + e.s.Coarse.Reacted[id]) / den
 }
 
-// Alpha returns the mass-weighted degree of hydration of the clinker phases.
+// Alpha returns the mass-weighted degree of hydration of the clinker
+// phases, the carried coarse grains included.
 func (e *Engine) Alpha() float64 {
 	var num, den float64
 	for i := range kinetics.Phases() {
 		ph := &kinetics.Phases()[i]
 		if ph.Role == kinetics.RoleClinker {
-			num += float64(e.s.Reacted[ph.ID]) * ph.DensityGPerCM3
-			den += float64(e.s.Initial[ph.ID]) * ph.DensityGPerCM3
+			num += (float64(e.s.Reacted[ph.ID]) + e.s.Coarse.Reacted[ph.ID]) * ph.DensityGPerCM3
+			den += (float64(e.s.Initial[ph.ID]) + e.s.Coarse.Initial[ph.ID]) * ph.DensityGPerCM3
 		}
 	}
 	if den == 0 {
@@ -476,7 +487,8 @@ func (e *Engine) ChemShrinkageMLPerG() float64 { return e.s.ShrinkVox * e.voxCM3
 
 // NonEvaporableGPerG returns the water that the hydrates keep when D-dried,
 // per gram of cement, from each hydrate's bound water in the phase table
-// (precipitated and dissolved units both count).
+// (precipitated and dissolved units, and the carried grains' inner
+// product, all count).
 func (e *Engine) NonEvaporableGPerG() float64 {
 	var w float64
 	for i := range kinetics.Phases() {
@@ -484,7 +496,7 @@ func (e *Engine) NonEvaporableGPerG() float64 {
 		if ph.Role != kinetics.RoleHydrate {
 			continue
 		}
-		n := float64(e.s.Count[ph.ID] + len(e.s.Free[ph.ID]))
+		n := float64(e.s.Count[ph.ID]+len(e.s.Free[ph.ID])) + e.s.Coarse.Inner[ph.ID]
 		w += n * e.voxCM3 / ph.MolarVolumeCM3() * ph.BoundWaterMol * kinetics.WaterMolarMass
 	}
 	return w / e.cementG

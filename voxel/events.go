@@ -64,8 +64,7 @@ func (e *Engine) computeRates() float64 {
 		e.arrT = tC
 	}
 	water := float64(e.s.Count[kinetics.Water])
-	n := float64(e.g.Len())
-	fw := e.p.WaterFactor(water / n)
+	fw := e.p.WaterFactor(e.waterPorosity()) // paste basis: carried outlines included
 	sSi := e.silicateSaturation()
 	sigma := e.sulfateAvailability()
 	poolSat := e.p.GypsumSolubilityMolPerL * water * e.voxCM3 / 1000
@@ -75,29 +74,30 @@ func (e *Engine) computeRates() float64 {
 	}
 	var total float64
 	for d, id := range e.dph {
-		var r float64
-		if e.bulk[d] > 0 {
-			r = e.velPerS[d] * e.bulk[d] * (float64(e.nAccW[d]) + e.beta[d]*float64(e.nAccH[d])) * e.arrD[d] * fw
-		} else {
-			r = e.velPerS[d] * (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * e.arrD[d] * fw
-		}
-		if need := e.chNeed[d]; need >= 0 && r > 0 && !(chAvail > 0 && chAvail >= need) {
-			// CH gate: no CH to take (pozzolans) or to activate (slag).
-			if e.s.CHSeen && !e.s.CHOut {
-				e.s.CHOut, e.s.CHOutS = true, e.s.TimeS
-			}
-			r = 0
-		}
-		r *= e.p.SulfateRetardation(e.sulfFac[d], sigma)
+		m := e.velPerS[d] * e.arrD[d] * fw * e.p.SulfateRetardation(e.sulfFac[d], sigma)
 		switch id {
 		case kinetics.C3S, kinetics.C2S:
-			r *= math.Max(0, 1-sSi)
+			m *= math.Max(0, 1-sSi)
 		case kinetics.Gypsum, kinetics.Hemihydrate, kinetics.Anhydrite:
 			if poolSat <= 0 {
-				r = 0
+				m = 0
 			} else {
-				r *= math.Max(0, 1-e.s.PoolSO4Mol/poolSat)
+				m *= math.Max(0, 1-e.s.PoolSO4Mol/poolSat)
 			}
+		}
+		if need := e.chNeed[d]; need >= 0 && m > 0 && !(chAvail > 0 && chAvail >= need) {
+			// CH gate: no CH to take (pozzolans) or to activate (slag).
+			if e.s.CHSeen && !e.s.CHOut && e.nAccW[d]+e.nAccH[d] > 0 {
+				e.s.CHOut, e.s.CHOutS = true, e.s.TimeS
+			}
+			m = 0
+		}
+		e.cc.mul[d] = m // the same law for the carried grains
+		var r float64
+		if e.bulk[d] > 0 { // sub-voxel powder: the voxel's own surface
+			r = e.bulk[d] * (float64(e.nAccW[d]) + e.beta[d]*float64(e.nAccH[d])) * m
+		} else {
+			r = (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * m
 		}
 		e.rates[d] = r
 		total += r
@@ -130,6 +130,7 @@ func (e *Engine) computeRates() float64 {
 		e.rates[k+evAttempt+j] = r
 		total += r
 	}
+	total += e.coarseRates(k + evAttempt + len(e.products))
 	return total
 }
 
@@ -172,7 +173,7 @@ func (e *Engine) sulfateAvailability() float64 {
 	surf := 0.0
 	for d, m := range e.sulfMol {
 		if m > 0 {
-			surf += (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d])) * a * m
+			surf += (float64(e.sumW[d]) + e.beta[d]*float64(e.sumH[d]) + e.coarseSulfateFaces(d)) * a * m
 		}
 	}
 	waterL := float64(e.s.Count[kinetics.Water]) * e.voxCM3 / 1000
@@ -206,6 +207,8 @@ func (e *Engine) fire(total float64) error {
 		e.nucleateCSH()
 	case k == nd+evCHNucleation:
 		e.nucleateCH()
+	case k >= nd+evAttempt+len(e.products):
+		e.fireCoarse(k - nd - evAttempt - len(e.products))
 	default:
 		e.attempt(e.products[k-nd-evAttempt])
 	}

@@ -327,19 +327,22 @@ type Classes struct {
 	FinerThanVoxel float64
 
 	// Truncated is the input's fraction coarser than MaxDiameter + ½
-	// voxels, left out (the rest scaled up to 1).
+	// voxels: not packed (Fraction is of the rest) but carried by the
+	// engine as coarse grains outside the lattice (CoarseTail,
+	// Engine.Carry).
 	Truncated float64
 }
 
-// MaxTruncated is the largest coarse fraction Classes will cut off: a
-// powder whose bulk is coarser than the box can hold is refused.
+// MaxTruncated is the largest coarse fraction Classes leaves to be
+// carried outside the lattice: a powder whose bulk is coarser than the box
+// can hold is refused (the box would no longer show its microstructure).
 const MaxTruncated = 0.5
 
 // Classes digitises the PSD for voxels of voxelUM µm in a box whose
 // shortest edge is boxVoxels. The coarsest diameter is half the shortest
 // edge (gelspace's rule: a grain at most half the box keeps the periodic
 // images of one grain from facing each other across a gap smaller than
-// itself); the coarser tail is truncated and reported. It fails when more
+// itself); the coarser tail is left to be carried (CoarseTail) and reported. It fails when more
 // than MaxTruncated of the powder is coarser, or the box is under 2 voxels.
 func (p *PSD) Classes(voxelUM float64, boxVoxels int) (*Classes, error) {
 	if !(voxelUM > 0) {
@@ -354,7 +357,7 @@ func (p *PSD) Classes(voxelUM float64, boxVoxels int) (*Classes, error) {
 	c.Truncated = 1 - top
 	c.FinerThanVoxel = p.Passing(voxelUM)
 	if c.Truncated > MaxTruncated {
-		return nil, fmt.Errorf("%.0f %% of the powder is coarser than %g µm, the largest particle a %d-voxel box of %g µm voxels holds (half its edge): enlarge box.voxels or box.voxel_um (at most %.0f %% may be cut off)",
+		return nil, fmt.Errorf("%.0f %% of the powder is coarser than %g µm, the largest particle a %d-voxel box of %g µm voxels holds (half its edge): enlarge box.voxels or box.voxel_um (at most %.0f %% may be carried outside the box)",
 			100*c.Truncated, (float64(dmax)+0.5)*voxelUM, boxVoxels, voxelUM, 100*MaxTruncated)
 	}
 	prev := 0.0

@@ -96,5 +96,16 @@ func printMix(w io.Writer, rep run.MixReport) {
 	fmt.Fprintf(w, "surface  %.0f m²/kg from the PSD, not Blaine (smooth spheres); %.0f m²/kg digitised (voxel faces)\n", p.SurfaceSpheresM2PerKg, p.SurfaceVoxelM2PerKg)
 	fmt.Fprintf(w, "box      %d³ voxels of %g µm; particles 1 to %d voxels (≤ %g µm, half the edge)\n", rep.Box.Voxels, rep.Box.VoxelUM, p.MaxDiameterVoxels, p.MaxDiameterUM)
 	fmt.Fprintf(w, "fines    %.2f %% finer than one voxel, %s\n", 100*p.FinerThanVoxel, p.FineRepresentation)
-	fmt.Fprintf(w, "coarse   %.2f %% coarser than the largest particle, left out (the rest scaled up)\n", 100*p.Truncated)
+	if p.Carried > 0 {
+		fmt.Fprintf(w, "coarse   %.2f %% coarser than the largest particle, carried outside the box as shrinking spheres (%d size bins, to %.0f µm): every gram takes part\n", 100*p.Carried, p.CarriedBins, p.CarriedMaxUM)
+	} else {
+		fmt.Fprintf(w, "coarse   none coarser than the largest particle\n")
+	}
+	if rr := p.RosinRammler; rr != nil {
+		if rr.Source == "given" {
+			fmt.Fprintf(w, "RR       x′ %.2f µm, n %.3f (given)\n", rr.XUM, rr.N)
+		} else {
+			fmt.Fprintf(w, "RR fit   x′ %.2f µm, n %.3f on %d rows: R² %.4f, largest deviation %.2f passing %% points (RRSB plot, DIN 66145)\n", rr.XUM, rr.N, rr.Rows, rr.R2, rr.MaxDevPercent)
+		}
+	}
 }

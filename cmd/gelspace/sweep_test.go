@@ -102,9 +102,15 @@ func TestSweepJobsIdentical(t *testing.T) {
 			t.Errorf("%s differs between --jobs 1 and --jobs 2:\n%s\n---\n%s", f, a, b)
 		}
 	}
+	// the PSD varies: the outputs are drawn against its d50 and surface too
+	for _, f := range []string{"alpha_1d_vs_d50.png", "set_time_h_vs_surface.svg", "main_peak_time_h.png"} {
+		if _, err := os.Stat(filepath.Join(d1, "plots", f)); err != nil {
+			t.Errorf("plots/%s: %v", f, err)
+		}
+	}
 	sum := readFile(t, filepath.Join(d1, "summary.csv"))
 	lines := strings.Split(strings.TrimSpace(sum), "\n")
-	if len(lines) != 9 || !strings.HasPrefix(lines[0], "point,replicate,folder,mix.w_c,psd.rosin_rammler.x_um,psd.rosin_rammler.n,seed,status,set_time_h,set_alpha,depercolation_time_h,alpha_1d") {
+	if len(lines) != 9 || !strings.HasPrefix(lines[0], "point,replicate,folder,mix.w_c,psd.rosin_rammler.x_um,psd.rosin_rammler.n,seed,status,set_time_h,set_alpha,depercolation_time_h,main_peak_time_h,main_peak_mw_per_g,alpha_1d") || !strings.HasSuffix(lines[0], ",psd_d50_um,psd_surface_m2_per_kg,carried_fraction") {
 		t.Fatalf("summary.csv:\n%s", sum)
 	}
 	for _, l := range lines[1:] {

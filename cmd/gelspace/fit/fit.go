@@ -165,6 +165,7 @@ const fitRange = 30.0
 type Model struct {
 	cfg   *configs.Config
 	grids []*voxel.Grid // packed once per seed; cloned per evaluation
+	mixes []*run.Mix    // the resolved mix of each grid (its carried coarse grains)
 	seeds []int64
 	times []float64
 	alpha bool // compare α, not heat
@@ -186,6 +187,7 @@ func NewModel(cfg *configs.Config, seeds int, times []float64, alpha bool) (*Mod
 			return nil, err
 		}
 		m.grids = append(m.grids, res.Grid)
+		m.mixes = append(m.mixes, mix)
 		m.seeds = append(m.seeds, c.Seed)
 	}
 	return m, nil
@@ -210,7 +212,7 @@ func (m *Model) Curve(x Multipliers) ([]float64, error) {
 				errs[k] = err
 				return
 			}
-			e, err := voxel.NewEngine(m.grids[k].Clone(), set)
+			e, err := m.mixes[k].NewEngine(m.grids[k].Clone(), set)
 			if err != nil {
 				errs[k] = err
 				return

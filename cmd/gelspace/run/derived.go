@@ -10,9 +10,10 @@ import (
 // Quantities derived from each row of series.csv for comparison with lab
 // measurements: Powers' gel–space ratio and porosities, phase contents by
 // mass, the equivalent age at 20 °C and the formation factor. Every
-// volume is a fraction of the paste volume (the box: cement, hydrates,
-// water-filled and empty pores); every mass is per 100 g of the cement
-// the engine counts (CementG).
+// volume is a fraction of the paste volume (the box and the carried
+// coarse grains' outlines: cement, hydrates, water-filled and empty
+// pores); every mass is per 100 g of the cement the engine counts
+// (CementG, the carried grains included).
 
 // GelSpaceRatio is Powers' gel–space ratio of a Portland-cement paste of
 // water-to-cement ratio wc at degree of hydration alpha, the volume of
@@ -76,15 +77,15 @@ func ChlorideDEff(f float64) float64 { return ChlorideD0M2PerS / f }
 // massPer100G is the mass of phase id in the box per 100 g of cement.
 func massPer100G(e *voxel.Engine, id kinetics.ID) float64 {
 	a := e.Grid().VoxelUM * 1e-4 // cm
-	return 100 * float64(e.Count(id)) * a * a * a * kinetics.Lookup(id).DensityGPerCM3 / e.CementG()
+	return 100 * e.PasteCount(id) * a * a * a * kinetics.Lookup(id).DensityGPerCM3 / e.CementG()
 }
 
 // derive fills the derived columns of row r from the engine's present
 // state and the previous row (nil for the first): r's cheap and
 // diffusivity columns must be set.
 func (h *hydration) derive(r, prev []float64) {
-	n := float64(h.e.Grid().Len())
-	vCSH := float64(h.e.Count(kinetics.CSHInner)+h.e.Count(kinetics.CSHOuter)+h.e.Count(kinetics.PozzCSH)) / n
+	n := h.e.PasteVoxels()
+	vCSH := (h.e.PasteCount(kinetics.CSHInner) + h.e.PasteCount(kinetics.CSHOuter) + h.e.PasteCount(kinetics.PozzCSH)) / n
 	r[colGelSpace] = GelSpaceRatio(r[colAlpha], h.cfg.Mix.WC)
 	r[colGelPor] = GelPorosity(vCSH)
 	r[colTotPor] = r[colCapPor] + r[colGelPor]

@@ -97,7 +97,8 @@ type runState struct {
 	PrevSnap []byte // engine at the last output age, while an event is pending
 	PrevH    float64
 	WallS    float64
-	// InitialSolid is the solid volume fraction of the packed box.
+	// InitialSolid is the solid volume fraction of the packed paste (the
+	// lattice and the carried grains).
 	InitialSolid float64
 	// StartTempC is the paste temperature at age 0, °C (the start of the
 	// first equivalent-age interval).
@@ -186,8 +187,7 @@ func (h *hydration) scaleSCMAlpha(r []float64) {
 // row computes the cheap columns of the engine's present state; the
 // connectivity and diffusivity columns are NaN.
 func row(e *voxel.Engine, prev []float64) []float64 {
-	g := e.Grid()
-	n := float64(g.Len())
+	n := e.PasteVoxels() // the paste: the lattice and the carried grains' outlines
 	r := make([]float64, nHead, nHead+len(kinetics.Phases()))
 	for i := range r {
 		r[i] = math.NaN()
@@ -213,10 +213,10 @@ func row(e *voxel.Engine, prev []float64) []float64 {
 	r[colShrink] = e.ChemShrinkageMLPerG()
 	r[colWater] = e.WaterConsumedGPerG()
 	r[colNonEvap] = e.NonEvaporableGPerG()
-	r[colCapPor] = float64(e.Count(kinetics.Water)+e.Count(kinetics.Empty)) / n
-	r[colWaterPor] = float64(e.Count(kinetics.Water)) / n
+	r[colCapPor] = capPor(e)
+	r[colWaterPor] = e.PasteCount(kinetics.Water) / n
 	for _, p := range kinetics.Phases() {
-		r = append(r, float64(e.Count(p.ID))/n)
+		r = append(r, e.PasteCount(p.ID)/n)
 	}
 	return r
 }
@@ -254,8 +254,11 @@ func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*Transiti
 	return best, nil
 }
 
+// capPor is the capillary porosity of the paste: water-filled and empty
+// pores of the lattice and the water-filled virtual pores of the carried
+// grains' outlines, over the paste volume.
 func capPor(e *voxel.Engine) float64 {
-	return float64(e.Count(kinetics.Water)+e.Count(kinetics.Empty)) / float64(e.Grid().Len())
+	return (e.PasteCount(kinetics.Water) + e.PasteCount(kinetics.Empty)) / e.PasteVoxels()
 }
 
 // midPlane copies the xy plane through the middle of the box.
@@ -350,7 +353,8 @@ func (h *hydration) start() error {
 			solid++
 		}
 	}
-	h.st.InitialSolid = float64(solid) / float64(g.Len())
+	// of the paste: the carried grains are solid
+	h.st.InitialSolid = (float64(solid) + h.e.CarriedVoxels()) / h.e.PasteVoxels()
 	h.st.StartTempC = h.e.TempC()
 	h.prev = h.e.Clone()
 	return nil

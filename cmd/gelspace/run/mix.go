@@ -33,6 +33,14 @@ type Mix struct {
 	Paste [kinetics.NumIDs]float64
 	// CementPaste is Paste less the SCMs' particles: the cement's share.
 	CementPaste [kinetics.NumIDs]float64
+
+	// Box is the volume fraction of each phase in the lattice: all the
+	// mix's water and the powder fine enough for the box. The powder
+	// coarser than the box's largest class is carried by the engine
+	// (voxel.Engine.Carry): Carried is its volume per phase per lattice
+	// voxel, CoarseBins its size classes.
+	Box, Carried [kinetics.NumIDs]float64
+	CoarseBins   []voxel.CoarseBin
 }
 
 // SCMMix is one SCM of a resolved blend.
@@ -51,6 +59,9 @@ type SCMMix struct {
 	DensityGPerCM3 float64
 	// SurfacePerUM is the PSD's specific surface per volume, µm⁻¹.
 	SurfacePerUM float64
+	// BoxGlass and BoxCryst are the same as fractions of the lattice (the
+	// cement's carried coarse grains left out).
+	BoxGlass, BoxCryst float64
 }
 
 // resolveSCMs adds the SCMs of a blend to m (after m.Cement is set).
@@ -95,10 +106,10 @@ func (m *Mix) resolveSCMs() error {
 // of n voxels: the cement's (voxel.Populations) and one per SCM with its
 // own sizes, its reactive and inert parts sharing its particles.
 func (m *Mix) Populations(n int) []voxel.Population {
-	pops := voxel.Populations(m.CementPaste, n, clinkerGrains(m.Cfg.Pack))
+	pops := voxel.Populations(m.Box, n, clinkerGrains(m.Cfg.Pack))
 	for _, s := range m.SCMs {
-		glass := int(math.Round(s.PasteGlass * float64(n)))
-		cryst := int(math.Round(s.PasteCryst * float64(n)))
+		glass := int(math.Round(s.BoxGlass * float64(n)))
+		cryst := int(math.Round(s.BoxCryst * float64(n)))
 		if glass == 0 && cryst == 0 {
 			continue
 		}
@@ -173,7 +184,60 @@ func Resolve(cfg *configs.Config) (*Mix, error) {
 		m.CementPaste[s.Kind.Phase] = 0
 		m.CementPaste[kinetics.Inert] = math.Max(0, m.CementPaste[kinetics.Inert]-s.PasteCryst)
 	}
+	m.splitCoarse()
 	return m, nil
+}
+
+// splitCoarse shares the paste between the lattice and the carried coarse
+// grains: with T the powder's fraction coarser than the box's largest
+// class and φ_s the solid fraction of the paste, the lattice is the paste
+// less the coarse grains, of volume 1 − φ_s·T per volume of paste, so a
+// phase's lattice fraction is φ_i (1 − T)/(1 − φ_s T) (water: φ_w/(1 − φ_s T))
+// and its carried volume φ_i T/(1 − φ_s T) per lattice voxel. The lattice
+// holds all the water of the mix at its w/c.
+func (m *Mix) splitCoarse() {
+	// Only the cement's own PSD has a carried tail: each SCM is packed
+	// with its own classes (its coarsest sizes in the largest class).
+	t := m.Classes.Truncated
+	cementSolid := 0.0
+	for id, f := range m.CementPaste {
+		if kinetics.IsAnhydrous(kinetics.ID(id)) {
+			cementSolid += f
+		}
+	}
+	den := 1 - cementSolid*t
+	for id, f := range m.CementPaste {
+		switch {
+		case kinetics.ID(id) == kinetics.Water:
+			m.Box[id] = f / den
+		case kinetics.IsAnhydrous(kinetics.ID(id)) && f > 0:
+			m.Box[id] = f * (1 - t) / den
+			m.Carried[id] = f * t / den
+		}
+	}
+	for i := range m.SCMs {
+		s := &m.SCMs[i]
+		s.BoxGlass, s.BoxCryst = s.PasteGlass/den, s.PasteCryst/den
+	}
+	m.CoarseBins = m.PSD.CoarseTail(m.Classes.VoxelUM, m.Classes.MaxDiameter)
+}
+
+// NewEngine prepares the engine for a packed lattice g of the mix and
+// gives it the mix's carried coarse grains.
+func (m *Mix) NewEngine(g *voxel.Grid, set voxel.EngineSettings) (*voxel.Engine, error) {
+	e, err := voxel.NewEngine(g, set)
+	if err != nil {
+		return nil, err
+	}
+	var vox [kinetics.NumIDs]float64
+	n := float64(g.Len())
+	for id, f := range m.Carried {
+		vox[id] = f * n
+	}
+	if err := e.Carry(voxel.CarriedPopulations(vox, clinkerGrains(m.Cfg.Pack)), m.CoarseBins); err != nil {
+		return nil, err
+	}
+	return e, nil
 }
 
 // MixReport is the JSON form of a resolved mix (gelspace mix --json, and
@@ -244,11 +308,38 @@ type PSDReport struct {
 	SurfaceVoxelM2PerKg   float64 `json:"specific_surface_digitised_m2_per_kg"`
 	FinerThanVoxel        float64 `json:"finer_than_voxel_fraction"`
 	FineRepresentation    string  `json:"fine_representation"`
-	Truncated             float64 `json:"truncated_fraction"`
 	MaxDiameterVoxels     int     `json:"max_diameter_voxels"`
 	MaxDiameterUM         float64 `json:"max_diameter_um"`
 	DigitisedMedianVoxels int     `json:"digitised_median_voxels"`
+	// Carried is the powder's mass fraction coarser than the largest
+	// packed particle, carried by the engine as shrinking spheres outside
+	// the lattice (CarriedRepresentation).
+	Carried               float64 `json:"carried_fraction"`
+	CarriedBins           int     `json:"carried_size_bins"`
+	CarriedMaxUM          float64 `json:"carried_max_diameter_um"`
+	CarriedRepresentation string  `json:"carried_representation"`
+	// RosinRammler is the law of a Rosin–Rammler PSD, or the law fitted
+	// to a measured table with its quality.
+	RosinRammler *RRReport `json:"rosin_rammler"`
+	SurfaceNote  string    `json:"specific_surface_note"`
 }
+
+// RRReport is a Rosin–Rammler law and, for a fit to a table, how well it
+// fits.
+type RRReport struct {
+	Source        string  `json:"source"` // "given" or "fitted to the table …"
+	XUM           float64 `json:"x_um"`
+	N             float64 `json:"n"`
+	R2            float64 `json:"r2"`
+	MaxDevPercent float64 `json:"max_dev_percent"`
+	Rows          int     `json:"rows_used"`
+}
+
+// CarriedNote describes the carried coarse grains, for reports.
+const CarriedNote = "grains coarser than the box's largest particle are not packed but carried by the engine as shrinking spheres per size bin (polymineral clinker with the phase shares, sulfates and fillers apart) that dissolve by the lattice's surface law and solution state and put their products into the box's pores; their volume is virtual (outside the lattice), their mass counts in every per-gram value and in alpha"
+
+// SurfaceNote says what the PSD's specific surface is.
+const SurfaceNote = "specific surface of the PSD taken as smooth spheres of the powder's density, 6000/(rho x) m2/kg integrated over the distribution; not a Blaine fineness (air permeability, EN 196-6, ASTM C204): the two differ by a factor that depends on the cement (grain shape, roughness, fines)"
 
 // Report returns the JSON form of the mix.
 func (m *Mix) Report() MixReport {
@@ -285,8 +376,19 @@ func (m *Mix) Report() MixReport {
 		D90UM: m.PSD.QuantileUM(0.9), SurfaceSpheresM2PerKg: m.PSD.SpecificSurfaceM2PerKg(rho),
 		SurfaceVoxelM2PerKg: c.SpecificSurfaceM2PerKg(rho), FinerThanVoxel: c.FinerThanVoxel,
 		FineRepresentation: "merged into the 1-voxel class (single-voxel particles)",
-		Truncated:          c.Truncated, MaxDiameterVoxels: c.MaxDiameter,
-		MaxDiameterUM: float64(c.MaxDiameter) * c.VoxelUM, DigitisedMedianVoxels: c.MedianDiameter()}
+		MaxDiameterVoxels:  c.MaxDiameter,
+		MaxDiameterUM:      float64(c.MaxDiameter) * c.VoxelUM, DigitisedMedianVoxels: c.MedianDiameter(),
+		Carried: c.Truncated, CarriedBins: len(m.CoarseBins), CarriedRepresentation: CarriedNote, SurfaceNote: SurfaceNote}
+	if n := len(m.CoarseBins); n > 0 {
+		rep.PSD.CarriedMaxUM = m.CoarseBins[n-1].DiameterUM
+	}
+	if fit, err := m.PSD.FitRosinRammler(); err == nil {
+		src := "fitted to the table (least squares on the RRSB plot, DIN 66145)"
+		if m.Cfg.PSD.RosinRammler != nil {
+			src = "given"
+		}
+		rep.PSD.RosinRammler = &RRReport{Source: src, XUM: fit.XUM, N: fit.N, R2: fit.R2, MaxDevPercent: fit.MaxDevPercent, Rows: fit.Rows}
+	}
 	return rep
 }
 

@@ -34,8 +34,14 @@ type Summary struct {
 		DensityGPerCM3 float64            `json:"density_g_per_cm3"`
 		PSD            string             `json:"psd"`
 		PSDMedianUM    float64            `json:"psd_median_um"`
+		// PSDStats are the PSD statistics of gelspace mix: d10, d50, d90,
+		// the specific surface from the PSD (not Blaine), the
+		// Rosin–Rammler law or its fit to a table, the carried fraction.
+		PSDStats PSDReport `json:"psd_stats"`
 	} `json:"mix"`
-	Box struct {
+	// Carried is the powder carried outside the box as coarse grains.
+	Carried CarriedSummary `json:"carried"`
+	Box     struct {
 		Voxels  int     `json:"voxels"`
 		VoxelUM float64 `json:"voxel_um"`
 	} `json:"box"`
@@ -83,6 +89,21 @@ type Summary struct {
 	Events     uint64  `json:"events"`
 	WallS      float64 `json:"wall_s"`
 	EventsPerS float64 `json:"events_per_s"`
+}
+
+// CarriedSummary is the share of the powder the engine carries as coarse
+// grains outside the lattice, and how far it has reacted.
+type CarriedSummary struct {
+	MassFraction float64 `json:"mass_fraction"`
+	// PasteVolumeFraction is their outlines' (virtual) share of the paste
+	// volume.
+	PasteVolumeFraction float64 `json:"paste_volume_fraction"`
+	// VirtualPoreFraction is the water-filled pore space inside the
+	// outlines, left by carried sulfate that dissolved without solid
+	// product, as a fraction of the paste (counted in capillary_porosity).
+	VirtualPoreFraction float64  `json:"virtual_pore_fraction"`
+	AlphaFinal          *float64 `json:"alpha_final"` // null when nothing is carried
+	Note                string   `json:"note"`
 }
 
 // AgeValues are the results at one age.
@@ -170,8 +191,8 @@ type Bases struct {
 
 // The bases, as written in summary.json and the column docs.
 const (
-	VolumeBasis  = "fraction of the paste volume (the box: cement, hydrates, water-filled and empty pores)"
-	PerGramBasis = "per gram (or per 100 g) of the powder in the box as tested: the cement, or for a blend the binder (cement + every SCM)"
+	VolumeBasis  = "fraction of the paste volume (the box and the carried coarse grains' outlines: cement, SCMs, hydrates, water-filled and empty pores); connectivity, set point, depercolation and D/D0 are of the box, the matrix between the carried grains"
+	PerGramBasis = "per gram (or per 100 g) of the whole powder as tested, packed and carried: the cement, or for a blend the binder (cement + every SCM)"
 	// SetPointNote is written beside every set point.
 	SetPointNote = "model set point: the solids first connect across the box in all three axes; not a Vicat time (ASTM C191, EN 196-3 measure that)"
 	// PasteEstimateNote marks the chloride estimate.
@@ -235,6 +256,12 @@ func (h *hydration) summary(m *Mix) *Summary {
 	s.Mix.DensityGPerCM3 = m.Comp.DensityGPerCM3()
 	s.Mix.PSD = m.PSD.String()
 	s.Mix.PSDMedianUM = m.PSD.MedianUM()
+	s.Mix.PSDStats = m.Report().PSD
+	s.Carried = CarriedSummary{MassFraction: h.e.CarriedFraction(), PasteVolumeFraction: h.e.CarriedVoxels() / h.e.PasteVoxels(),
+		VirtualPoreFraction: h.e.CarriedVoid() / h.e.PasteVoxels(), Note: CarriedNote}
+	if a := h.e.CarriedAlpha(); !math.IsNaN(a) {
+		s.Carried.AlphaFinal = &a
+	}
 	s.Box.Voxels, s.Box.VoxelUM = cfg.Box.Voxels, cfg.Box.VoxelUM
 	s.Curing.Mode, s.Curing.TemperatureMode, s.Curing.TemperatureC, s.Curing.UntilH = cfg.Curing.Mode, h.set.Thermal.Mode, cfg.Curing.TemperatureC, cfg.Curing.UntilH
 	s.InitialSolidFractionTarget = m.SolidFraction

@@ -89,7 +89,7 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 	c := m.Cfg
 	pops := m.Populations(g.Len())
 	rep := PackReport{Version: Version, Seed: c.Seed, Mix: m.Report(), Pack: c.Pack, Voxels: [3]int{g.NX, g.NY, g.NZ},
-		VoxelUM: g.VoxelUM, SolidTarget: m.SolidFraction, SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
+		VoxelUM: g.VoxelUM, SolidTarget: 1 - m.Box[kinetics.Water], SolidAchieved: SolidFraction(g), Particles: len(res.Diameter) - 1,
 		SurfaceVoxel: voxel.SpecificSurfaceM2PerKg(g), Attempts: res.Attempts, Scans: res.Scans, WallS: wall,
 		ClassCounts: map[string][]int{},
 		Files: map[string]string{"pack.vti": "VTK XML ImageData, cell arrays phase (UInt8) and particle (Int32)",
@@ -97,7 +97,7 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 		Notes: map[string]string{
 			"target_fraction":   "phase volume fraction of the fresh paste from the mass fractions, the phase densities and w/c",
 			"fines":             "the powder finer than one voxel is merged into the 1-voxel class",
-			"truncation":        "particles are at most half the box edge; the coarser tail is left out and the rest scaled up",
+			"truncation":        "particles are at most half the box edge; the coarser powder is not packed but carried by the engine as shrinking spheres outside the lattice (see the mix's psd.carried_fraction), so the lattice holds all the mix's water and the finer powder: its solid fraction target is below the paste's",
 			"specific_surface":  "exposed voxel faces (solid next to pore) of the packed box, m² per kg of powder; voxel faces overstate the surface from the PSD (smooth spheres), and neither is a Blaine fineness",
 			"packed_median":     "volume-weighted median of the particles' class diameters",
 			"particle_ids":      "1, 2, … in placement order (largest first); 0 is the original water space",
@@ -116,21 +116,21 @@ func NewPackReport(m *Mix, res *voxel.PackResult, wall float64) PackReport {
 	for pi, p := range pops {
 		sm := m.scmOf(p)
 		for k, id := range p.Phases {
-			key, target, got := kinetics.Lookup(id).Key, m.CementPaste[id], cnt[id]
+			key, target, got := kinetics.Lookup(id).Key, m.Box[id], cnt[id]
 			if sm != nil || (id == kinetics.Inert && len(m.SCMs) > 0) {
 				got = inPop[pi][id]
 			}
 			if sm != nil {
-				target = sm.PasteGlass
+				target = sm.BoxGlass
 				if id == kinetics.Inert {
-					key, target = "inert ("+sm.Kind.Key+")", sm.PasteCryst
+					key, target = "inert ("+sm.Kind.Key+")", sm.BoxCryst
 				}
 			}
 			rep.Phases = append(rep.Phases, PhaseFit{Key: key, TargetFraction: target,
 				Achieved: float64(got) / n, TargetVoxels: p.Voxels[k], Voxels: got})
 		}
 	}
-	rep.Phases = append(rep.Phases, PhaseFit{Key: "water", TargetFraction: m.Paste[kinetics.Water],
+	rep.Phases = append(rep.Phases, PhaseFit{Key: "water", TargetFraction: m.Box[kinetics.Water],
 		Achieved: float64(cnt[kinetics.Water]) / n, TargetVoxels: g.Len() - sumTargets(pops), Voxels: cnt[kinetics.Water]})
 	for pi, p := range pops {
 		name := kinetics.Lookup(p.Phases[0]).Key

@@ -240,7 +240,7 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 			}
 			g = res.Grid
 		}
-		e, err := voxel.NewEngine(g, set)
+		e, err := m.NewEngine(g, set)
 		if err != nil {
 			return nil, &configs.InputError{File: cfg.Source, Key: "kinetics", Msg: err.Error()}
 		}

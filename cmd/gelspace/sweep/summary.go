@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -48,6 +49,8 @@ func Outputs() []Output {
 		{"set_time_h", "set time, h", func(s *run.Summary) float64 { return opt(s.SetTimeH) }},
 		{"set_alpha", "degree of hydration at set", func(s *run.Summary) float64 { return opt(s.SetAlpha) }},
 		{"depercolation_time_h", "capillary-pore depercolation time, h", func(s *run.Summary) float64 { return opt(s.DepercolationTimeH) }},
+		{"main_peak_time_h", "time of the main heat-flow peak, h", func(s *run.Summary) float64 { return opt(s.Calorimetry.MainPeakTimeH) }},
+		{"main_peak_mw_per_g", "main heat-flow peak, mW/g", func(s *run.Summary) float64 { return opt(s.Calorimetry.MainPeakMWPerG) }},
 	}
 	for _, d := range sweepAgesD {
 		at := func(s *run.Summary) *run.AgeValues {
@@ -82,7 +85,20 @@ func Outputs() []Output {
 				}
 			}
 			return math.NaN()
-		}})
+		}},
+		Output{"rel_diffusivity_28d", "D/D0 at 28 d (mean of x, y, z)", func(s *run.Summary) float64 {
+			for _, d := range s.RelDiffusivity {
+				if math.Abs(d.TimeH-672) < 1e-9 {
+					return (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
+				}
+			}
+			return math.NaN()
+		}},
+		Output{"psd_d50_um", "d50 of the PSD, µm", func(s *run.Summary) float64 { return s.Mix.PSDStats.D50UM }},
+		Output{"psd_surface_m2_per_kg", "specific surface from the PSD (spheres, not Blaine), m²/kg", func(s *run.Summary) float64 {
+			return s.Mix.PSDStats.SurfaceSpheresM2PerKg
+		}},
+		Output{"carried_fraction", "powder carried outside the box (coarse grains), mass fraction", func(s *run.Summary) float64 { return s.Carried.MassFraction }})
 	return outs
 }
 
@@ -473,91 +489,187 @@ func writeSweepPlots(dir string, pl *Plan, rows []Row) error {
 	}
 	for k, o := range Outputs() {
 		lines, nominal := summaryLines(pl, first, stats, runs, k)
-		has := false
-		for _, l := range lines {
-			has = has || len(l.xys) > 0
-		}
-		if !has {
-			continue
-		}
-		p := plot.New()
-		p.Title.Text = o.Label + " (mean ± 95 % CI)"
-		p.X.Label.Text = pl.Axes[0].Key
-		p.Y.Label.Text = o.Label
-		p.Add(plotter.NewGrid())
-		if nominal {
-			p.NominalX(pl.Axes[0].Values...)
-		}
-		partial := false
-		var rings []plot.Plotter
-		for i, l := range lines {
-			if len(l.xys) == 0 {
-				continue
-			}
-			if len(l.partial) > 0 {
-				partial = true
-				ring, err := plotter.NewScatter(l.partial)
-				if err != nil {
-					return err
-				}
-				ring.Shape = draw.CircleGlyph{}
-				ring.Color = color.White
-				ring.Radius = vg.Points(1.5)
-				rings = append(rings, ring) // drawn over the filled points
-			}
-			c := plotutil.Color(i)
-			line, pts, err := plotter.NewLinePoints(l.xys)
-			if err != nil {
-				return err
-			}
-			line.Color = c
-			line.Width = vg.Points(1.5)
-			pts.Color = c
-			pts.Shape = draw.CircleGlyph{}
-			pts.Radius = vg.Points(2.5)
-			eb, err := plotter.NewYErrorBars(errPoints{l.xys, l.errs})
-			if err != nil {
-				return err
-			}
-			eb.Color = c
-			eb.LineStyle.Width = vg.Points(1)
-			p.Add(line, pts, eb)
-			if l.label != "" {
-				p.Legend.Add(l.label, line, pts)
-			}
-		}
-		p.Add(rings...)
-		if partial {
-			p.Title.Text += "; hollow: not every replicate has a value (summary_stats.csv: _n)"
-		}
-		p.Legend.Top = true
-		p.Legend.Left = true
-		p.Legend.TextStyle.Color = color.Black
-		// room for the error bars at the ends and for the legend on top
-		if !nominal {
-			pad := 0.05 * (xhi - xlo)
-			if pad == 0 {
-				pad = 0.05 * math.Max(math.Abs(xlo), 1)
-			}
-			p.X.Min, p.X.Max = xlo-pad, xhi+pad
-		}
-		span := p.Y.Max - p.Y.Min
-		if span == 0 {
-			span = math.Max(1e-3, math.Abs(p.Y.Max))
-		}
-		p.Y.Max += 0.08 * span * float64(len(lines)+1)
-		if err := os.MkdirAll(dir, 0o755); err != nil {
+		if err := savePlot(dir, o.Name, o.Label, pl.Axes[0].Key, lines, nominal, pl.Axes[0].Values, xlo, xhi); err != nil {
 			return err
 		}
-		for _, ext := range []string{"png", "svg"} {
-			wt, err := p.WriterTo(16*vg.Centimeter, 11*vg.Centimeter, ext)
-			if err != nil {
-				return err
+	}
+	if !sweepsPSD(pl) {
+		return nil
+	}
+	// The PSD varies: each output against the PSD's d50 and its specific
+	// surface as well.
+	outs := Outputs()
+	for _, by := range []struct{ col, suffix, label string }{
+		{"psd_d50_um", "_vs_d50", "d50 of the PSD, µm"},
+		{"psd_surface_m2_per_kg", "_vs_surface", "specific surface from the PSD (spheres, not Blaine), m²/kg"},
+	} {
+		kx := -1
+		for k, o := range outs {
+			if o.Name == by.col {
+				kx = k
 			}
-			if err := render.WriteFileAtomic(filepath.Join(dir, o.Name+"."+ext), func(w io.Writer) error { _, err := wt.WriteTo(w); return err }); err != nil {
+		}
+		for k, o := range outs {
+			if k == kx || strings.HasPrefix(o.Name, "psd_") {
+				continue
+			}
+			lines, lo, hi := psdLines(pl, first, stats, runs, k, kx)
+			if err := savePlot(dir, o.Name+by.suffix, o.Label, by.label, lines, false, nil, lo, hi); err != nil {
 				return err
 			}
 		}
 	}
 	return nil
+}
+
+// savePlot draws the lines of one output (mean ± 95 % CI) against x into
+// dir/name.png and .svg; nothing when no line has a value.
+func savePlot(dir, name, label, xlabel string, lines []*plotLine, nominal bool, xvalues []string, xlo, xhi float64) error {
+	has := false
+	for _, l := range lines {
+		has = has || len(l.xys) > 0
+	}
+	if !has {
+		return nil
+	}
+	p := plot.New()
+	p.Title.Text = label + " (mean ± 95 % CI)"
+	p.X.Label.Text = xlabel
+	p.Y.Label.Text = label
+	p.Add(plotter.NewGrid())
+	if nominal {
+		p.NominalX(xvalues...)
+	}
+	partial := false
+	var rings []plot.Plotter
+	for i, l := range lines {
+		if len(l.xys) == 0 {
+			continue
+		}
+		if len(l.partial) > 0 {
+			partial = true
+			ring, err := plotter.NewScatter(l.partial)
+			if err != nil {
+				return err
+			}
+			ring.Shape = draw.CircleGlyph{}
+			ring.Color = color.White
+			ring.Radius = vg.Points(1.5)
+			rings = append(rings, ring) // drawn over the filled points
+		}
+		c := plotutil.Color(i)
+		line, pts, err := plotter.NewLinePoints(l.xys)
+		if err != nil {
+			return err
+		}
+		line.Color = c
+		line.Width = vg.Points(1.5)
+		pts.Color = c
+		pts.Shape = draw.CircleGlyph{}
+		pts.Radius = vg.Points(2.5)
+		eb, err := plotter.NewYErrorBars(errPoints{l.xys, l.errs})
+		if err != nil {
+			return err
+		}
+		eb.Color = c
+		eb.LineStyle.Width = vg.Points(1)
+		p.Add(line, pts, eb)
+		if l.label != "" {
+			p.Legend.Add(l.label, line, pts)
+		}
+	}
+	p.Add(rings...)
+	if partial {
+		p.Title.Text += "; hollow: not every replicate has a value (summary_stats.csv: _n)"
+	}
+	p.Legend.Top = true
+	p.Legend.Left = true
+	p.Legend.TextStyle.Color = color.Black
+	// room for the error bars at the ends and for the legend on top
+	if !nominal {
+		pad := 0.05 * (xhi - xlo)
+		if pad == 0 {
+			pad = 0.05 * math.Max(math.Abs(xlo), 1)
+		}
+		p.X.Min, p.X.Max = xlo-pad, xhi+pad
+	}
+	span := p.Y.Max - p.Y.Min
+	if span == 0 {
+		span = math.Max(1e-3, math.Abs(p.Y.Max))
+	}
+	p.Y.Max += 0.08 * span * float64(len(lines)+1)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	for _, ext := range []string{"png", "svg"} {
+		wt, err := p.WriterTo(16*vg.Centimeter, 11*vg.Centimeter, ext)
+		if err != nil {
+			return err
+		}
+		if err := render.WriteFileAtomic(filepath.Join(dir, name+"."+ext), func(w io.Writer) error { _, err := wt.WriteTo(w); return err }); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// sweepsPSD reports whether an axis of the plan varies the PSD.
+func sweepsPSD(pl *Plan) bool {
+	for _, a := range pl.Axes {
+		if strings.HasPrefix(a.Key, "psd.") && len(a.Values) > 1 {
+			return true
+		}
+	}
+	return false
+}
+
+// psdLines groups the point statistics of output k into lines against the
+// point's mean of output kx (a PSD statistic), one line per combination
+// of the axes that do not vary the PSD, sorted by x; lo and hi bound x.
+func psdLines(pl *Plan, first []Row, stats [][]replicateStats, runs []int, k, kx int) (lines []*plotLine, lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	byLabel := map[string]*plotLine{}
+	for i, r := range first {
+		var parts []string
+		for ai, a := range pl.Axes {
+			if strings.HasPrefix(a.Key, "psd.") || len(a.Values) < 2 {
+				continue
+			}
+			parts = append(parts, a.Key+" = "+a.Values[r.P.Values[ai]])
+		}
+		label := strings.Join(parts, ", ")
+		l := byLabel[label]
+		if l == nil {
+			l = &plotLine{label: label}
+			byLabel[label] = l
+			lines = append(lines, l)
+		}
+		sy, sx := stats[i][k], stats[i][kx]
+		if math.IsNaN(sy.Mean) || math.IsNaN(sx.Mean) {
+			continue
+		}
+		e := sy.CI95
+		if math.IsNaN(e) {
+			e = 0
+		}
+		lo, hi = math.Min(lo, sx.Mean), math.Max(hi, sx.Mean)
+		l.xys = append(l.xys, plotter.XY{X: sx.Mean, Y: sy.Mean})
+		l.errs = append(l.errs, struct{ Low, High float64 }{e, e})
+		if sy.N < runs[i] {
+			l.partial = append(l.partial, plotter.XY{X: sx.Mean, Y: sy.Mean})
+		}
+	}
+	for _, l := range lines {
+		idx := make([]int, len(l.xys))
+		for j := range idx {
+			idx[j] = j
+		}
+		sort.Slice(idx, func(a, b int) bool { return l.xys[idx[a]].X < l.xys[idx[b]].X })
+		xys, errs := make(plotter.XYs, len(idx)), make(plotter.YErrors, len(idx))
+		for j, o := range idx {
+			xys[j], errs[j] = l.xys[o], l.errs[o]
+		}
+		l.xys, l.errs = xys, errs
+	}
+	return lines, lo, hi
 }
