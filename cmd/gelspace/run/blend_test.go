@@ -206,3 +206,28 @@ func sumInts(a []int) int {
 	}
 	return s
 }
+
+// Silica fume depercolates the capillary pores earlier at the same w/b
+// (0.40, 64³ boxes, two seeds each): its fine, dispersed pozzolanic C-S-H
+// cuts the pore network sooner (common practice: silica fume pastes lose
+// capillary-pore connectivity sooner; from memory). Long.
+func TestSilicaFumeDepercolatesEarlierLong(t *testing.T) {
+	if os.Getenv("GELSPACE_LONG") == "" {
+		t.Skip("set GELSPACE_LONG=1")
+	}
+	mean := func(scms ...string) float64 {
+		s := 0.0
+		for _, seed := range []int{1, 2} {
+			h := blendRun(t, 64, 1, 0.40, seed, scms...)
+			if h.st.Deperc == nil {
+				t.Fatalf("%v seed %d: capillary pores still connected at 28 d", scms, seed)
+			}
+			s += h.st.Deperc.TimeH / 2
+		}
+		return s
+	}
+	plain, sf := mean(), mean("silica_fume 10")
+	if !(sf < 0.85*plain) {
+		t.Errorf("depercolation at w/b 0.40: 10 %% silica fume %.0f h, plain %.0f h: want clearly earlier (< 85 %%)", sf, plain)
+	}
+}

@@ -187,3 +187,45 @@ func TestStatsOf(t *testing.T) {
 		t.Errorf("summary_stats.csv:\n%s", b.String())
 	}
 }
+
+// A sweep varies an SCM's content by its index (scm.1.mass_percent), and
+// the silica-fume study's points resolve to the blends they name, its 0 %
+// point included; the plain-cement reference of each point is found.
+func TestSweepOverSCMContent(t *testing.T) {
+	spec, err := Load(filepath.Join("..", "..", "..", "configs", "sweeps", "silica-fume.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	pts, err := spec.Points(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []float64{0, 0, 5, 5, 10, 10}
+	if len(pts) != len(want) {
+		t.Fatalf("%d points, want %d", len(pts), len(want))
+	}
+	dir := t.TempDir()
+	for i, p := range pts {
+		cfgPath := filepath.Join(dir, p.Name+".toml")
+		if err := os.WriteFile(cfgPath, p.Config, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		cfg, err := configs.Load(cfgPath, nil)
+		if err != nil {
+			t.Fatalf("%s: %v", p.Name, err)
+		}
+		if len(cfg.SCM) != 2 || cfg.SCM[1].Kind != "silica_fume" || cfg.SCM[1].MassPercent != want[i] || cfg.SCM[0].MassPercent != 0 || cfg.Mix.WB != 0.45 {
+			t.Errorf("%s: SCMs %+v, w/b %g; want silica fume %g %% at w/b 0.45", p.Name, cfg.SCM, cfg.Mix.WB, want[i])
+		}
+	}
+	pl := NewPlan(spec, pts, false)
+	var first []Row
+	for _, p := range pl.Points {
+		if p.Replicate == 0 {
+			first = append(first, Row{P: p})
+		}
+	}
+	if ref := plainReference(pl, first); len(ref) != 3 || ref[0] != 0 || ref[1] != 0 || ref[2] != 0 {
+		t.Errorf("plain-cement references %v, want [0 0 0]", ref)
+	}
+}
