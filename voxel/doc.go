@@ -30,6 +30,20 @@
 // is gone; hydrogarnet (with FH3 from the ferrite) when nothing else is
 // left. Inert filler does not react; it offers surface.
 //
+// Supplementary cementitious materials. An SCM voxel (silica fume,
+// fly-ash glass, slag glass, metakaolin) runs its one reaction of the
+// kinetics table like a clinker voxel, with two rules of its own. It reacts
+// only once portlandite has formed — the pore solution is then saturated
+// with CH and alkaline — and only while the CH its reaction takes (the
+// pozzolans; slag takes none but needs it as activator) can be had from the
+// solution: the dissolved CH units first, then exposed CH voxels; where it
+// cannot, its rate is zero, and the engine records the age (CHRanOut). A
+// powder finer than a voxel (silica fume) is carried as single-voxel
+// agglomerates that react at v·S_v (kinetics.Dissolution.SurfacePerUM), S_v
+// its specific surface per volume, if a face touches pore water, β times
+// that under product only: the rate per volume, and the answer, do not
+// depend on the voxel size.
+//
 // Sulfate balance. Sulfate adsorbed from the solution retards the
 // aluminates. The retardation follows σ, the sulfate available to the
 // solution relative to gypsum saturation — the dissolved pool plus the
