@@ -109,8 +109,13 @@ const MaxFieldValues = 254
 // voxels each). Conductances are not stored: each bond's is looked up from
 // the classes (phase ids) of its two voxels.
 type Solver struct {
+	// Labeler, when not nil, labels the conducting clusters in place of
+	// the solver's own, so that a caller that labels too (connectivity at
+	// each age) holds one set of labelling buffers. Its result is
+	// overwritten by the solve.
+	Labeler *Labeler
+
 	lab  Labeler
-	in   []bool
 	fcls []uint8 // classes of a DiffusivityField solve
 
 	// The model: the class of each voxel (phase ids, or the classes of a
@@ -276,11 +281,15 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 
 	// Conducting clusters: voxels with d > 0, joined where both are > 0,
 	// which is where the harmonic-mean conductance is > 0.
-	s.in = grow(s.in, n)
-	for i, c := range s.cls {
-		s.in[i] = s.dtab[c] > 0
+	lab := s.Labeler
+	if lab == nil {
+		lab = &s.lab
 	}
-	cl := s.lab.Label(box, s.in)
+	in := lab.set(n)
+	for i, c := range s.cls {
+		in[i] = s.dtab[c] > 0
+	}
+	cl := lab.Label(box, in)
 	s.ins = grow(s.ins, box.NX)
 	for i := range s.ins {
 		s.ins[i] = sentinel

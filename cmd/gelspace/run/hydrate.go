@@ -257,8 +257,14 @@ func (h *hydration) step() (bool, error) {
 		s, p := h.connectivity()
 		r[colSolidsFrac], r[colSolidsSpan] = s.Fraction, float64(s.SpanAxes)
 		r[colPoresFrac], r[colPoresSpan] = p.Fraction, float64(p.SpanAxes)
+		// The events first: at the last age they keep no engine for a
+		// later refinement, so that D/D0 runs beside the engine alone.
+		if err := h.events(t, s, p); err != nil {
+			return false, err
+		}
 		if h.diffT[t] {
 			g := h.e.Grid()
+			h.sol.Labeler = &h.lab // one set of labelling buffers for the run
 			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol})
 			if err != nil {
 				return false, fmt.Errorf("diffusivity at %g h: %w", t, err)
@@ -267,8 +273,10 @@ func (h *hydration) step() (bool, error) {
 			h.st.Diff = append(h.st.Diff, d.Rel)
 			h.st.DiffAt = append(h.st.DiffAt, t)
 		}
-		if err := h.events(t, s, p); err != nil {
-			return false, err
+		if h.last() {
+			// Nothing is labelled or solved after the last age: the
+			// buffers go before the outputs are written.
+			h.sol, h.lab = percolation.Solver{}, percolation.Labeler{}
 		}
 		h.st.Outputs = append(h.st.Outputs, len(h.st.Samples))
 		h.st.Frames = append(h.st.Frames, midPlane(h.e.Grid()))
@@ -305,12 +313,16 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		h.st.Deperc = tr
 	}
 	h.prev = nil
-	if h.st.Set == nil || h.st.Deperc == nil {
+	if (h.st.Set == nil || h.st.Deperc == nil) && !h.last() {
 		h.prev = h.e.Clone()
 	}
 	h.st.PrevH = t
 	return nil
 }
+
+// last reports whether the sample being taken is the last of the
+// schedule.
+func (h *hydration) last() bool { return h.st.Next == len(h.ages)-1 }
 
 // start records the state at age 0 for the first refinement.
 func (h *hydration) start() error {
