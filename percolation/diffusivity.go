@@ -131,7 +131,8 @@ type Solver struct {
 	invd       []float32    // 1/A_ii on the active set, 0 elsewhere: the smoother's diagonal
 	part       [][3]float64 // per z plane partial sums, added in plane order
 	rows       [][2][]float64
-	agg        []int32  // aggregate on coarse level 0 of each voxel, −1 off the active set
+	act        []uint8  // per voxel: bit a set when its cluster spans axis a
+	agg        []int32  // aggregate on coarse level 0 of each voxel, −1 off the active set (the labelling's storage)
 	mg         []gLevel // multigrid coarse levels
 	stack      []int32  // aggregation scratch
 	cuf        []int32  // union–find scratch of the coarse levels
@@ -290,6 +291,22 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 		in[i] = s.dtab[c] > 0
 	}
 	cl := lab.Label(box, in)
+	// The axes each voxel's cluster spans; the labels themselves are not
+	// needed past this point, and their storage becomes the aggregate map.
+	s.act = grow(s.act, n)
+	for i, l := range cl.Label {
+		var m uint8
+		if l >= 0 {
+			sp := cl.Spans[l]
+			for a := range 3 {
+				if sp[a] {
+					m |= 1 << a
+				}
+			}
+		}
+		s.act[i] = m
+	}
+	s.agg = cl.Label
 	s.ins = grow(s.ins, box.NX)
 	for i := range s.ins {
 		s.ins[i] = sentinel
@@ -315,10 +332,6 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 		res.Conducts[a] = active
 		if active {
 			if !built {
-				for _, v := range [5]*[]float32{&s.w, &s.r, &s.p, &s.z, &s.invd} {
-					*v = grow(*v, n)
-				}
-				s.agg = growI32(s.agg, n)
 				built = true
 				s.hierOK = false
 			}
@@ -441,6 +454,10 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 	}
 	s.axisA, s.cl = a, cl
 	s.mgBuild()
+	// The vectors after the levels: the build's scratch is garbage by now.
+	for _, v := range [5]*[]float32{&s.w, &s.r, &s.p, &s.z, &s.invd} {
+		*v = grow(*v, s.box.Len())
+	}
 	s.parallel(passSetup)
 	_, bb, c0 := s.sums()
 	var iter int
@@ -705,8 +722,7 @@ func (s *Solver) setup(z0, z1 int, _, dg []float64) {
 // a being the gradient axis; ok is false off the active set.
 func (s *Solver) source(x, y, z int) (gp, b float64, ok bool) {
 	i := s.box.Index(x, y, z)
-	c := s.cl.Label[i]
-	if c < 0 || !s.cl.Spans[c][s.axisA] {
+	if s.act[i]>>s.axisA&1 == 0 {
 		return 0, 0, false
 	}
 	a, dims := s.axisA, s.box.dims()
