@@ -204,8 +204,10 @@ func isDepercolated(c percolation.Connectivity) bool { return c.SpanAxes == 0 }
 
 // refine finds by bisection, between the last output age (h.prev) and
 // hi, the first age at which test holds, to within 1 % of hi or 0.05 h.
-// Replays from a saved state follow the run exactly.
-func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*Transition, error) {
+// Replays from a saved state follow the run exactly. Unless keep is set
+// (another refinement from the same state follows), h.prev is let go once
+// the bisection has moved past it, so that at most three engines are held.
+func (h *hydration) refine(hi float64, keep bool, test func(g *voxel.Grid) bool) (*Transition, error) {
 	lo := h.st.PrevH
 	base := h.prev
 	var best *Transition
@@ -221,6 +223,9 @@ func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*Transiti
 		} else {
 			lo = mid
 			base = e
+			if !keep {
+				h.prev = nil
+			}
 		}
 	}
 	return best, nil
@@ -292,8 +297,9 @@ func (h *hydration) step() (bool, error) {
 // events detects and refines the set point and depercolation at output age
 // t, then keeps the state needed for the next refinement.
 func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
+	depToo := h.st.Deperc == nil && isDepercolated(p)
 	if h.st.Set == nil && isSet(s) {
-		tr, err := h.refine(t, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
+		tr, err := h.refine(t, depToo, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
 		if err != nil {
 			return err
 		}
@@ -303,7 +309,7 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		h.st.Set = tr
 	}
 	if h.st.Deperc == nil && isDepercolated(p) {
-		tr, err := h.refine(t, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
+		tr, err := h.refine(t, false, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
 		if err != nil {
 			return err
 		}
