@@ -98,16 +98,18 @@ func DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, 
 const MaxFieldValues = 254
 
 // Solver holds the work arrays of the diffusivity solve so that repeated
-// solves (a time series) allocate nothing once sized. The zero value is
-// ready to use; a Solver is not safe for concurrent use.
+// solves (a time series) reuse them once sized; only the multigrid's build
+// scratch is allocated anew per solve and dropped after the build. The
+// zero value is ready to use; a Solver is not safe for concurrent use.
 //
 // Memory: per voxel of the box, four float32 vectors (the fluctuation w,
 // the residual r, the search direction p and the preconditioned residual
-// z, which also holds A p), the aggregate of each voxel (int32, −1 off the
-// active set) and the labelling of the conducting clusters (an int32 and a
-// bool), 25 bytes, plus the coarse levels (about an eighth of the active
-// voxels each). Conductances are not stored: each bond's is looked up from
-// the classes (phase ids) of its two voxels.
+// z, which also holds A p) and the float32 inverse diagonal, the axes
+// spanned by each voxel's conducting cluster (a byte) and the labelling of
+// the conducting clusters (an int32, which then holds the aggregate of
+// each voxel, and a bool), 26 bytes, plus the coarse levels (about an
+// eighth of the active voxels each). Conductances are not stored: each
+// bond's is looked up from the classes (phase ids) of its two voxels.
 type Solver struct {
 	// Labeler, when not nil, labels the conducting clusters in place of
 	// the solver's own, so that a caller that labels too (connectivity at

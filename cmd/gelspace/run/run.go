@@ -61,8 +61,8 @@ type CheckpointPolicy struct {
 // limit), so the resident peak stays near the live heap. Measured with GNU
 // time on default runs to 168 h (see README, Performance).
 const (
-	runFixedBytes     = 24 << 20
-	runBytesPerVoxel  = 48
+	runFixedBytes     = 32 << 20
+	runBytesPerVoxel  = 50
 	diffBytesPerVoxel = 56 // replaces runBytesPerVoxel when D/D0 is computed
 )
 
