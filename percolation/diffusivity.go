@@ -101,19 +101,26 @@ func DiffusivityField(box Box, d []float64, opt DiffusivityOptions) (Diffusion, 
 const MaxFieldValues = 254
 
 // Solver holds the work arrays of the diffusivity solve so that repeated
-// solves (a time series) allocate nothing once sized. The zero value is
-// ready to use; a Solver is not safe for concurrent use.
+// solves (a time series) reuse them once sized; only the multigrid's build
+// scratch is allocated anew per solve and dropped after the build. The
+// zero value is ready to use; a Solver is not safe for concurrent use.
 //
 // Memory: per voxel of the box, four float32 vectors (the fluctuation w,
 // the residual r, the search direction p and the preconditioned residual
-// z, which also holds A p), the aggregate of each voxel (int32, −1 off the
-// active set) and the labelling of the conducting clusters (an int32 and a
-// bool), 25 bytes, plus the coarse levels (about an eighth of the active
-// voxels each). Conductances are not stored: each bond's is looked up from
-// the classes (phase ids) of its two voxels.
+// z, which also holds A p) and the float32 inverse diagonal, the axes
+// spanned by each voxel's conducting cluster (a byte) and the labelling of
+// the conducting clusters (an int32, which then holds the aggregate of
+// each voxel, and a bool), 26 bytes, plus the coarse levels (about an
+// eighth of the active voxels each). Conductances are not stored: each
+// bond's is looked up from the classes (phase ids) of its two voxels.
 type Solver struct {
+	// Labeler, when not nil, labels the conducting clusters in place of
+	// the solver's own, so that a caller that labels too (connectivity at
+	// each age) holds one set of labelling buffers. Its result is
+	// overwritten by the solve.
+	Labeler *Labeler
+
 	lab  Labeler
-	in   []bool
 	fcls []uint8 // classes of a DiffusivityField solve
 
 	// The model: the class of each voxel (phase ids, or the classes of a
@@ -129,7 +136,8 @@ type Solver struct {
 	invd       []float32    // 1/A_ii on the active set, 0 elsewhere: the smoother's diagonal
 	part       [][3]float64 // per z plane partial sums, added in plane order
 	rows       [][2][]float64
-	agg        []int32  // aggregate on coarse level 0 of each voxel, −1 off the active set
+	act        []uint8  // per voxel: bit a set when its cluster spans axis a
+	agg        []int32  // aggregate on coarse level 0 of each voxel, −1 off the active set (the labelling's storage)
 	mg         []gLevel // multigrid coarse levels
 	stack      []int32  // aggregation scratch
 	cuf        []int32  // union–find scratch of the coarse levels
@@ -279,11 +287,31 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 
 	// Conducting clusters: voxels with d > 0, joined where both are > 0,
 	// which is where the harmonic-mean conductance is > 0.
-	s.in = grow(s.in, n)
-	for i, c := range s.cls {
-		s.in[i] = s.dtab[c] > 0
+	lab := s.Labeler
+	if lab == nil {
+		lab = &s.lab
 	}
-	cl := s.lab.Label(box, s.in)
+	in := lab.set(n)
+	for i, c := range s.cls {
+		in[i] = s.dtab[c] > 0
+	}
+	cl := lab.Label(box, in)
+	// The axes each voxel's cluster spans; the labels themselves are not
+	// needed past this point, and their storage becomes the aggregate map.
+	s.act = grow(s.act, n)
+	for i, l := range cl.Label {
+		var m uint8
+		if l >= 0 {
+			sp := cl.Spans[l]
+			for a := range 3 {
+				if sp[a] {
+					m |= 1 << a
+				}
+			}
+		}
+		s.act[i] = m
+	}
+	s.agg = cl.Label
 	s.ins = grow(s.ins, box.NX)
 	for i := range s.ins {
 		s.ins[i] = sentinel
@@ -309,10 +337,6 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 		res.Conducts[a] = active
 		if active {
 			if !built {
-				for _, v := range [5]*[]float32{&s.w, &s.r, &s.p, &s.z, &s.invd} {
-					*v = grow(*v, n)
-				}
-				s.agg = growI32(s.agg, n)
 				built = true
 				s.hierOK = false
 			}
@@ -435,6 +459,10 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 	}
 	s.axisA, s.cl = a, cl
 	s.mgBuild()
+	// The vectors after the levels: the build's scratch is garbage by now.
+	for _, v := range [5]*[]float32{&s.w, &s.r, &s.p, &s.z, &s.invd} {
+		*v = grow(*v, s.box.Len())
+	}
 	s.parallel(passSetup)
 	_, bb, c0 := s.sums()
 	var iter int
@@ -699,8 +727,7 @@ func (s *Solver) setup(z0, z1 int, _, dg []float64) {
 // a being the gradient axis; ok is false off the active set.
 func (s *Solver) source(x, y, z int) (gp, b float64, ok bool) {
 	i := s.box.Index(x, y, z)
-	c := s.cl.Label[i]
-	if c < 0 || !s.cl.Spans[c][s.axisA] {
+	if s.act[i]>>s.axisA&1 == 0 {
 		return 0, 0, false
 	}
 	a, dims := s.axisA, s.box.dims()

@@ -112,13 +112,19 @@
 // ids of its two voxels in a table of single-precision harmonic means, so
 // no conductance is stored; the vectors w, r, p and z (which also holds
 // A p) and the smoother's inverse diagonal are single precision (4 × 5
-// bytes); the aggregate of each voxel (4 bytes, −1 off the active set) and
-// the conducting-cluster labelling (4 + 1 bytes) complete about 29 bytes
-// per voxel, plus the coarse levels, whose size follows the active set
-// (on the 100³ paste of testdata, 64 % of the voxels active, the first
-// level has 0.2 aggregates per active voxel and the levels take about 17
-// bytes per voxel of the box). Sums and
-// every arithmetic step are in double precision; the single-precision
-// storage changes D/D0 by less than 1e-8 relative on the test pastes and
-// 3e-10 on the 100³ paste (TestDiffusivityFloat64, TestDiffusivityHydrated).
+// bytes); the labelling of the conducting clusters (4 + 1 bytes, shared
+// with the caller's Labeler through Solver.Labeler) is read once into a
+// byte per voxel of the axes its cluster spans, and its 4-byte labels then
+// hold the aggregate of each voxel; about 26 bytes per voxel, plus the
+// coarse levels, whose size follows the active set and which keep only
+// their rows, inverse diagonal, iterate, right-hand side and aggregates
+// (the diagonals, block coordinates and unmerged entries of the build are
+// dropped once the levels stand, and the vectors are allocated after
+// them). On the 100³ paste of testdata, 64 % of the voxels active, the
+// first level has 0.2 aggregates per active voxel and the solver holds
+// 38 bytes per voxel of the box in all (BenchmarkDiffusivityHydrated100).
+// Sums and every arithmetic step are in double precision; the
+// single-precision storage changes D/D0 by less than 1e-8 relative on the
+// test pastes and 3e-10 on the 100³ paste (TestDiffusivityFloat64,
+// TestDiffusivityHydrated).
 package percolation

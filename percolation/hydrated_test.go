@@ -98,8 +98,8 @@ func benchHydratedTol(b *testing.B, workers int, tol float64) {
 	}
 	b.Logf("D/D0 %.7g, iterations %v", res.Rel, res.Iter)
 	var act int
-	for _, l := range s.lab.cl.Label {
-		if l >= 0 && s.lab.cl.Spans[l] != [3]bool{} {
+	for _, m := range s.act {
+		if m != 0 {
 			act++
 		}
 	}
@@ -144,14 +144,14 @@ func BenchmarkDiffusivityHydrated100Tol5(b *testing.B) { benchHydratedTol(b, 1, 
 // footprint returns the bytes held by the solver's buffers (capacities),
 // its labeler and its multigrid levels included.
 func (s *Solver) footprint() int {
-	n := cap(s.in) + cap(s.fcls) + 8*cap(s.dtab) + 4*(1<<16) + cap(s.ins)
-	n += 4 * (cap(s.w) + cap(s.r) + cap(s.p) + cap(s.z) + cap(s.invd) + cap(s.agg) + cap(s.stack) + cap(s.cuf))
+	n := cap(s.fcls) + cap(s.act) + 8*cap(s.dtab) + 4*(1<<16) + cap(s.ins)
+	n += 4 * (cap(s.w) + cap(s.r) + cap(s.p) + cap(s.z) + cap(s.invd) + cap(s.stack))
 	n += 24*cap(s.part) + cap(s.hierAct)
 	for _, r := range s.rows {
 		n += 8 * (cap(r[0]) + cap(r[1]))
 	}
 	for _, c := range s.mg {
-		n += 4*(cap(c.ptr)+cap(c.col)+cap(c.val)+cap(c.blk)+cap(c.agg)+cap(c.cnt)+cap(c.pos)) + 8*(cap(c.diag)+cap(c.invd)+cap(c.f)+cap(c.x))
+		n += 4*(cap(c.ptr)+cap(c.col)+cap(c.val)+cap(c.agg)) + 8*(cap(c.invd)+cap(c.f)+cap(c.x))
 	}
 	l := &s.lab
 	n += 4*(cap(l.parent)+cap(l.final)+cap(l.cl.Label)+cap(l.cl.Size)/2*2) + 12*cap(l.off) + cap(l.wrap) + 2*cap(l.touch) + cap(l.in) + 3*cap(l.cl.Spans) + 8*cap(l.cl.Size)

@@ -56,18 +56,36 @@ const (
 
 // gLevel is a coarse level: a conductance network on the aggregates of the
 // level below, stored as compressed rows of its off-diagonal conductances.
+//
+// Only n, ptr, col, val, invd, f, x and agg are kept for the solve; diag,
+// blk and the assembly scratch live in an mgScratch while the levels are
+// built, and are dropped after.
 type gLevel struct {
-	n        int
-	ptr      []int32   // row I holds entries ptr[I] to ptr[I+1]
-	col      []int32   // neighbour of each entry
-	val      []float32 // conductance of each entry (minus the matrix entry)
-	diag     []float64 // diagonal of A
-	invd     []float64 // 1/diag, 0 where diag is 0
-	f, x     []float64 // right-hand side, iterate
-	blk      []int32   // block coordinates (3 per node) on the block grid of dims
-	dims     [3]int
-	agg      []int32 // aggregate of each node on the next level
-	cnt, pos []int32 // assembly scratch
+	n    int
+	ptr  []int32   // row I holds entries ptr[I] to ptr[I+1]
+	col  []int32   // neighbour of each entry
+	val  []float32 // conductance of each entry (minus the matrix entry)
+	invd []float64 // 1/A_II, 0 where A_II is 0
+	f, x []float64 // right-hand side, iterate
+	agg  []int32   // aggregate of each node on the next level
+
+	// while building
+	diag []float64 // diagonal of A
+	blk  []int32   // block coordinates (3 per node) on the block grid of dims
+	dims [3]int
+	sc   *mgScratch
+}
+
+// mgScratch holds the buffers used only while the coarse levels are
+// built: the diagonals and block coordinates of two consecutive levels
+// (level k uses index k&1), the raw (unmerged) entries of the level being
+// assembled and the counting and merging scratch.
+type mgScratch struct {
+	diag     [2][]float64
+	blk      [2][]int32
+	rcol     []int32
+	rval     []float32
+	cnt, pos []int32
 }
 
 // forward and backward are Gauss–Seidel sweeps on A x = f in node order
@@ -140,41 +158,45 @@ func (c *gLevel) emit(pass int, I, J int32, g float32) {
 		}
 		return
 	}
+	sc := c.sc
 	if pass == 0 {
-		c.cnt[I+1]++
-		c.cnt[J+1]++
+		sc.cnt[I+1]++
+		sc.cnt[J+1]++
 		return
 	}
 	fill := c.ptr
-	c.col[fill[I]], c.val[fill[I]] = J, g
+	sc.rcol[fill[I]], sc.rval[fill[I]] = J, g
 	fill[I]++
-	c.col[fill[J]], c.val[fill[J]] = I, g
+	sc.rcol[fill[J]], sc.rval[fill[J]] = I, g
 	fill[J]++
 }
 
 // assemble builds level c, of nc nodes, from the finer level src: the
 // Galerkin operator Pᵀ A P of piecewise-constant interpolation P.
+// c.diag must be set to a buffer of at least nc and c.sc to the build
+// scratch.
 func (c *gLevel) assemble(nc int, src edgeSource) {
+	sc := c.sc
 	c.n = nc
 	c.ptr = growI32(c.ptr, nc+1)
-	c.cnt = growI32(c.cnt, nc+1)
-	c.diag = grow(c.diag, nc)
+	sc.cnt = growI32(sc.cnt, nc+1)
+	c.diag = c.diag[:nc]
 	c.invd = grow(c.invd, nc)
 	c.f = grow(c.f, nc)
 	c.x = grow(c.x, nc)
-	clear(c.cnt)
+	clear(sc.cnt)
 	clear(c.diag)
 	src.visitDiag(c)
 	src.visitEdges(c, 0)
 	for I := range nc {
-		c.cnt[I+1] += c.cnt[I]
+		sc.cnt[I+1] += sc.cnt[I]
 	}
-	m := int(c.cnt[nc])
-	c.col = growI32(c.col, m)
-	c.val = grow(c.val, m)
+	m := int(sc.cnt[nc])
+	sc.rcol = growI32(sc.rcol, m)
+	sc.rval = grow(sc.rval, m)
 	// Fill the raw entries row by row, in the order the bonds are visited,
 	// with ptr as the fill cursors, then merge duplicates.
-	copy(c.ptr[:nc], c.cnt[:nc])
+	copy(c.ptr[:nc], sc.cnt[:nc])
 	src.visitEdges(c, 1)
 	c.merge()
 	for I, d := range c.diag {
@@ -185,35 +207,39 @@ func (c *gLevel) assemble(nc int, src edgeSource) {
 	}
 }
 
-// merge compacts the raw rows (bounds in cnt) by summing the entries of
-// each row that share a neighbour, and sets ptr.
+// merge compacts the raw rows (in the scratch, bounds in cnt) by summing
+// the entries of each row that share a neighbour, and sets ptr, col and
+// val, the latter two sized to the merged entries.
 func (c *gLevel) merge() {
-	nc := c.n
-	where := growI32(c.pos, nc) // position of neighbour J in the current row, or −1
+	nc, sc := c.n, c.sc
+	where := growI32(sc.pos, nc) // position of neighbour J in the current row, or −1
 	for i := range where {
 		where[i] = -1
 	}
-	c.pos = where
+	sc.pos = where
+	rcol, rval := sc.rcol, sc.rval
 	out := int32(0)
 	for I := range nc {
-		lo, hi := c.cnt[I], c.cnt[I+1]
+		lo, hi := sc.cnt[I], sc.cnt[I+1]
 		c.ptr[I] = out
 		start := out
 		for k := lo; k < hi; k++ {
-			J, g := c.col[k], c.val[k]
+			J, g := rcol[k], rval[k]
 			if w := where[J]; w >= start {
-				c.val[w] += g
+				rval[w] += g
 				continue
 			}
 			where[J] = out
-			c.col[out], c.val[out] = J, g
+			rcol[out], rval[out] = J, g
 			out++
 		}
 		for k := start; k < out; k++ {
-			where[c.col[k]] = -1
+			where[rcol[k]] = -1
 		}
 	}
 	c.ptr[nc] = out
+	c.col = append(c.col[:0], rcol[:out]...)
+	c.val = append(c.val[:0], rval[:out]...)
 }
 
 // aggregate groups the nodes of c into the connected components (by
@@ -280,7 +306,7 @@ func (c *gLevel) restrict(next *gLevel) {
 		if c.invd[i] == 0 {
 			continue
 		}
-		v := c.f[i] - c.diag[i]*c.x[i]
+		v := c.f[i] - c.x[i]/c.invd[i]
 		for k := c.ptr[i]; k < c.ptr[i+1]; k++ {
 			v += float64(c.val[k]) * c.x[c.col[k]]
 		}
@@ -344,10 +370,10 @@ func (s *Solver) fineAggregates(c *gLevel) int {
 	box := s.box
 	nx, ny, nz := box.NX, box.NY, box.NZ
 	plane := nx * ny
-	a, cl := s.axisA, s.cl
-	for i, l := range cl.Label {
+	a := s.axisA
+	for i, m := range s.act {
 		s.agg[i] = -1
-		if l >= 0 && cl.Spans[l][a] {
+		if m>>a&1 != 0 {
 			s.agg[i] = -2 // active, not yet in an aggregate
 		}
 	}
@@ -403,7 +429,7 @@ func (s *Solver) assembleFine(c *gLevel, nc int) {
 	dims := box.dims()
 	c.n = nc
 	c.ptr = growI32(c.ptr, nc+1)
-	c.diag = grow(c.diag, nc)
+	c.diag = c.diag[:nc]
 	c.invd = grow(c.invd, nc)
 	c.f = grow(c.f, nc)
 	c.x = grow(c.x, nc)
@@ -500,8 +526,24 @@ func (s *Solver) mgBuild() {
 		s.mg = append(s.mg, gLevel{})
 	}
 	s.mg = s.mg[:1]
+	// The build scratch is dropped when the levels are built, so that it
+	// and the conjugate-gradient vectors, allocated after the first
+	// build, need not be held at once.
+	sc := &mgScratch{}
+	defer func() {
+		for k := range s.mg {
+			c := &s.mg[k]
+			c.diag, c.blk, c.sc = nil, nil, nil
+		}
+		s.cuf = nil
+	}()
 	c := &s.mg[0]
-	s.assembleFine(c, s.fineAggregates(c))
+	c.sc, c.blk = sc, sc.blk[0][:0]
+	nc := s.fineAggregates(c)
+	sc.blk[0] = c.blk
+	sc.diag[0] = grow(sc.diag[0], nc)
+	c.diag = sc.diag[0]
+	s.assembleFine(c, nc)
 	for {
 		c := &s.mg[len(s.mg)-1]
 		if c.n <= mgCoarsestLen || c.dims == [3]int{1, 1, 1} {
@@ -512,14 +554,19 @@ func (s *Solver) mgBuild() {
 		} else {
 			s.mg = append(s.mg, gLevel{})
 		}
-		c = &s.mg[len(s.mg)-2]
-		next := &s.mg[len(s.mg)-1]
+		k := len(s.mg) - 1
+		c = &s.mg[k-1]
+		next := &s.mg[k]
+		next.sc, next.blk = sc, sc.blk[k&1][:0]
 		s.cuf = growI32(s.cuf, c.n)
 		nn := c.aggregate(next, uf(s.cuf))
+		sc.blk[k&1] = next.blk
 		if nn == c.n {
-			s.mg = s.mg[:len(s.mg)-1]
+			s.mg = s.mg[:k]
 			return
 		}
+		sc.diag[k&1] = grow(sc.diag[k&1], nn)
+		next.diag = sc.diag[k&1]
 		next.assemble(nn, c)
 	}
 }

@@ -2,6 +2,8 @@ package main
 
 import (
 	"fmt"
+	"os"
+	"runtime/debug"
 	"strings"
 	"unicode"
 	"unicode/utf8"
@@ -59,4 +61,16 @@ func runMemory(cfg *configs.Config, fromSize bool) error {
 		return &usageError{"run: --size " + msg}
 	}
 	return nil
+}
+
+// limitMemory sets the garbage collector's soft memory limit to need
+// bytes (the run's estimate), unless GOMEMLIMIT is set: the heap then
+// grows past its live size only up to what the run was expected to take,
+// instead of to twice its live size. A live heap above the limit only makes
+// the collector work harder; the run does not fail for it.
+func limitMemory(need float64) {
+	if os.Getenv("GOMEMLIMIT") != "" {
+		return
+	}
+	debug.SetMemoryLimit(int64(need))
 }

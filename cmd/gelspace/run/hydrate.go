@@ -232,8 +232,10 @@ func isDepercolated(c percolation.Connectivity) bool { return c.SpanAxes == 0 }
 
 // refine finds by bisection, between the last output age (h.prev) and
 // hi, the first age at which test holds, to within 1 % of hi or 0.05 h.
-// Replays from a saved state follow the run exactly.
-func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*Transition, error) {
+// Replays from a saved state follow the run exactly. Unless keep is set
+// (another refinement from the same state follows), h.prev is let go once
+// the bisection has moved past it, so that at most three engines are held.
+func (h *hydration) refine(hi float64, keep bool, test func(g *voxel.Grid) bool) (*Transition, error) {
 	lo := h.st.PrevH
 	base := h.prev
 	var best *Transition
@@ -249,6 +251,9 @@ func (h *hydration) refine(hi float64, test func(g *voxel.Grid) bool) (*Transiti
 		} else {
 			lo = mid
 			base = e
+			if !keep {
+				h.prev = nil
+			}
 		}
 	}
 	return best, nil
@@ -289,8 +294,14 @@ func (h *hydration) step() (bool, error) {
 		s, p := h.connectivity()
 		r[colSolidsFrac], r[colSolidsSpan] = s.Fraction, float64(s.SpanAxes)
 		r[colPoresFrac], r[colPoresSpan] = p.Fraction, float64(p.SpanAxes)
+		// The events first: at the last age they keep no engine for a
+		// later refinement, so that D/D0 runs beside the engine alone.
+		if err := h.events(t, s, p); err != nil {
+			return false, err
+		}
 		if h.diffT[t] {
 			g := h.e.Grid()
+			h.sol.Labeler = &h.lab // one set of labelling buffers for the run
 			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol})
 			if err != nil {
 				return false, fmt.Errorf("diffusivity at %g h: %w", t, err)
@@ -299,8 +310,10 @@ func (h *hydration) step() (bool, error) {
 			h.st.Diff = append(h.st.Diff, d.Rel)
 			h.st.DiffAt = append(h.st.DiffAt, t)
 		}
-		if err := h.events(t, s, p); err != nil {
-			return false, err
+		if h.last() {
+			// Nothing is labelled or solved after the last age: the
+			// buffers go before the outputs are written.
+			h.sol, h.lab = percolation.Solver{}, percolation.Labeler{}
 		}
 		h.st.Outputs = append(h.st.Outputs, len(h.st.Samples))
 		h.st.Frames = append(h.st.Frames, midPlane(h.e.Grid()))
@@ -316,8 +329,9 @@ func (h *hydration) step() (bool, error) {
 // events detects and refines the set point and depercolation at output age
 // t, then keeps the state needed for the next refinement.
 func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
+	depToo := h.st.Deperc == nil && isDepercolated(p)
 	if h.st.Set == nil && isSet(s) {
-		tr, err := h.refine(t, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
+		tr, err := h.refine(t, depToo, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
 		if err != nil {
 			return err
 		}
@@ -327,7 +341,7 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		h.st.Set = tr
 	}
 	if h.st.Deperc == nil && isDepercolated(p) {
-		tr, err := h.refine(t, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
+		tr, err := h.refine(t, false, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
 		if err != nil {
 			return err
 		}
@@ -337,12 +351,16 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		h.st.Deperc = tr
 	}
 	h.prev = nil
-	if h.st.Set == nil || h.st.Deperc == nil {
+	if (h.st.Set == nil || h.st.Deperc == nil) && !h.last() {
 		h.prev = h.e.Clone()
 	}
 	h.st.PrevH = t
 	return nil
 }
+
+// last reports whether the sample being taken is the last of the
+// schedule.
+func (h *hydration) last() bool { return h.st.Next == len(h.ages)-1 }
 
 // start records the state at age 0 for the first refinement.
 func (h *hydration) start() error {

@@ -49,15 +49,21 @@ type CheckpointPolicy struct {
 	Wall time.Duration
 }
 
-// Memory a run takes per voxel, as resident memory: measured on the
-// default 100³ run (113 MB without D/D0, 357 MB with it), which includes the
-// engine's lattice and classes (about 11 bytes, BenchmarkHydrate100) twice
-// (a copy is kept for refining the set point and depercolation), the
-// labelling and image buffers, the diffusivity solver's vectors and
-// multigrid levels, and the garbage collector's headroom.
+// Memory a run takes, as resident memory: a fixed part (the program, the
+// runtime, images and tables) and a part per voxel, the larger of the
+// hydration's and the D/D0 solve's. Hydration holds up to three copies of
+// the engine's lattice and classes (13 bytes per voxel each,
+// BenchmarkHydrate100) while the set point and depercolation are refined
+// on clones, and the labelling (5 bytes); the D/D0 solve at the last age
+// runs beside the engine alone, with its vectors, multigrid levels and the
+// shared labelling (38 bytes, BenchmarkDiffusivityHydrated100). The
+// command holds the garbage collector to this figure (a soft memory
+// limit), so the resident peak stays near the live heap. Measured with GNU
+// time on default runs to 168 h (see README, Performance).
 const (
-	runBytesPerVoxel  = 120
-	diffBytesPerVoxel = 250
+	runFixedBytes     = 32 << 20
+	runBytesPerVoxel  = 50
+	diffBytesPerVoxel = 56 // replaces runBytesPerVoxel when D/D0 is computed
 )
 
 // CheckMemory refuses, before anything is allocated, a box whose run
@@ -70,19 +76,29 @@ func CheckMemory(cfg *configs.Config) error {
 	return nil
 }
 
+// MemoryNeed returns the resident memory, in bytes, that a run of an n³
+// box is expected to take, with or without D/D0.
+func MemoryNeed(n int, diffusivity bool) float64 {
+	per := float64(runBytesPerVoxel)
+	if diffusivity {
+		per = diffBytesPerVoxel
+	}
+	nf := float64(n)
+	return runFixedBytes + nf*nf*nf*per
+}
+
 // MemoryShortfall returns, when a run of an n³ box would not fit in the
 // memory available, the message saying so ("" when it fits).
 func MemoryShortfall(n int, diffusivity bool) string {
-	per := float64(runBytesPerVoxel)
-	if diffusivity {
-		per += diffBytesPerVoxel
-	}
-	nf := float64(n)
-	need, avail := nf*nf*nf*per, float64(configs.AvailableBytes())
+	need, avail := MemoryNeed(n, diffusivity), float64(configs.AvailableBytes())
 	if need <= avail {
 		return ""
 	}
-	max := int(math.Cbrt(avail / per))
+	per := float64(runBytesPerVoxel)
+	if diffusivity {
+		per = diffBytesPerVoxel
+	}
+	max := int(math.Cbrt(max(avail-runFixedBytes, 0) / per))
 	return fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here (or set output.diffusivity = false)", n, n, need/1e9, avail/1e9, max)
 }
 
