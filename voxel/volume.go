@@ -546,14 +546,14 @@ func readNPYHeader(br io.Reader) (npyHead, error) {
 	return h, nil
 }
 
-// npyDims reads an .npy header and returns the dimensions and the file
-// length the header implies.
-func npyDims(r io.Reader) (nx, ny, nz int, need int64, err error) {
+// npyDims reads an .npy header and returns the dimensions, the file length
+// the header implies and the length of the header itself.
+func npyDims(r io.Reader) (nx, ny, nz int, need, head int64, err error) {
 	h, err := readNPYHeader(bufio.NewReader(r))
 	if err != nil {
-		return 0, 0, 0, 0, err
+		return 0, 0, 0, 0, 0, err
 	}
-	return h.nx, h.ny, h.nz, h.headerBytes + int64(h.nx)*int64(h.ny)*int64(h.nz)*int64(h.size), nil
+	return h.nx, h.ny, h.nz, h.headerBytes + int64(h.nx)*int64(h.ny)*int64(h.nz)*int64(h.size), h.headerBytes, nil
 }
 
 // parseNPYHeader reads the Python dict literal of an .npy header.
@@ -687,11 +687,13 @@ func StatVolume(path string) (nx, ny, nz int, err error) {
 		k, _ := io.ReadFull(f, head)
 		nx, ny, nz, err = vtiDims(head[:k])
 	case ".npy":
-		var need int64
-		nx, ny, nz, need, err = npyDims(f)
+		var need, head int64
+		nx, ny, nz, need, head, err = npyDims(f)
 		if err == nil {
 			if st, e := f.Stat(); e == nil && st.Size() < need {
-				err = fmt.Errorf("npy: %d bytes, but the header declares %d×%d×%d values (%d bytes)", st.Size(), nx, ny, nz, need)
+				n := int64(nx) * int64(ny) * int64(nz)
+				have := max(st.Size()-head, 0) / ((need - head) / n)
+				err = fmt.Errorf("npy: data ends after %d of the %d values (%d×%d×%d) the header declares", have, n, nz, ny, nx)
 			}
 		}
 	default:

@@ -225,7 +225,7 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 		if o.From != "" {
 			path := filepath.Join(o.From, "pack.vti")
 			if g, err = voxel.ReadVolume(path); err != nil {
-				return nil, &configs.InputError{File: path, Msg: err.Error()}
+				return nil, VolumeError(path, err)
 			}
 			if g.NX != cfg.Box.Voxels || g.NY != cfg.Box.Voxels || g.NZ != cfg.Box.Voxels || g.VoxelUM != cfg.Box.VoxelUM {
 				return nil, &configs.InputError{File: path, Key: "box", Msg: fmt.Sprintf("the pack is %d×%d×%d voxels of %g µm, the config says %d³ of %g µm: use the config the pack was made with", g.NX, g.NY, g.NZ, g.VoxelUM, cfg.Box.Voxels, cfg.Box.VoxelUM)}
