@@ -151,6 +151,9 @@ func prepareOut(dir string, force bool) error {
 		return nil
 	}
 	if !force {
+		if m, err := ReadManifest(dir); err == nil && !m.Complete {
+			return &configs.InputError{File: dir, Msg: "folder holds an unfinished run (run.json: complete false); continue it with --resume " + dir + ", or replace it with --force"}
+		}
 		return &configs.InputError{File: dir, Msg: "folder holds another run; use --force to replace it, or --resume to continue it"}
 	}
 	for _, n := range outputNames {
