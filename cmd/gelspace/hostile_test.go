@@ -253,9 +253,11 @@ func npyHeader(z, y, x int) string {
 }
 
 var (
-	onlyCfg   = func(h *hostileEnv) { h.config() }
-	schedule  = func(rows string) func(h *hostileEnv) { return scheduleCfg("time_h,temperature_c\n" + rows) }
-	fitCurve  = func(text string) func(h *hostileEnv) { return func(h *hostileEnv) { h.config(); h.write("m.csv", text) } }
+	onlyCfg  = func(h *hostileEnv) { h.config() }
+	schedule = func(rows string) func(h *hostileEnv) { return scheduleCfg("time_h,temperature_c\n" + rows) }
+	fitCurve = func(text string) func(h *hostileEnv) {
+		return func(h *hostileEnv) { h.config(); h.write("m.csv", text) }
+	}
 	psdConfig = func(table string) func(h *hostileEnv) {
 		return func(h *hostileEnv) {
 			h.write("t.csv", table)
