@@ -113,6 +113,11 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		head = append(append([]byte(nil), data[:k]...), rest[:bytes.IndexByte(rest, '>')+1]...)
 		head = append(head, "</AppendedData></VTKFile>"...)
 	}
+	// One ImageData element: the header reader of StatVolume (vtiDims)
+	// takes the first, so a second could slip a larger box past it.
+	if n := bytes.Count(head, []byte("<ImageData")); n != 1 {
+		return nil, fmt.Errorf("vti: %d ImageData elements: need exactly one", n)
+	}
 	var h vtiHead
 	if err := xml.Unmarshal(head, &h); err != nil {
 		return nil, fmt.Errorf("vti: %v", err)
@@ -144,8 +149,8 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		}
 		var s [3]float64
 		for i := range f {
-			if s[i], err = strconv.ParseFloat(f[i], 64); err != nil || !(s[i] > 0) {
-				return nil, fmt.Errorf("vti: Spacing %q: need positive numbers", excerpt(h.Image.Spacing))
+			if s[i], err = strconv.ParseFloat(f[i], 64); err != nil || !(s[i] > 0) || math.IsInf(s[i], 0) {
+				return nil, fmt.Errorf("vti: Spacing %q: need positive finite numbers", excerpt(h.Image.Spacing))
 			}
 		}
 		if math.Abs(s[1]-s[0]) > 1e-9*s[0] || math.Abs(s[2]-s[0]) > 1e-9*s[0] {
@@ -440,8 +445,8 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 	n := nx * ny * nz
 	// grow with the data so that a short file cannot make us allocate the
 	// size its header claims
-	phase = make([]uint8, 0, min(n, 1<<24))
-	buf := make([]byte, 1<<16-(1<<16)%size)
+	phase = make([]uint8, 0, min(n, 1<<20))
+	buf := make([]byte, min(1<<16-(1<<16)%size, n*size))
 	for i := 0; i < n; {
 		m := min(len(buf)/size, n-i)
 		if got, err := io.ReadFull(br, buf[:m*size]); err != nil {
