@@ -200,6 +200,10 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 			return nil, &configs.InputError{File: o.Out, Msg: "no run to resume here (no run.json)"}
 		}
 		if man.Complete {
+			// A stop just after run.json was marked complete can leave the
+			// checkpoint and temporary files behind: they go now.
+			os.Remove(filepath.Join(o.Out, CheckpointFile))
+			removeTemps(o.Out)
 			return nil, &configs.InputError{File: filepath.Join(o.Out, ManifestFile), Msg: "the run is complete: nothing to resume"}
 		}
 		e, extra, ok, err := readResumeState(o.Out, cfg, man, set)
