@@ -579,3 +579,30 @@ func readCurveForTest(p string) (int, error) {
 	}
 	return len(c.TimeH), nil
 }
+
+// TestForceRerunRemovesStale: a rerun with --force and --no-render into
+// the folder of a run with images leaves no image, plot or report of the
+// old run behind.
+func TestForceRerunRemovesStale(t *testing.T) {
+	d := t.TempDir()
+	cfg := filepath.Join(d, "cfg.toml")
+	os.WriteFile(cfg, []byte(hostileBase), 0o644)
+	out := filepath.Join(d, "out")
+	mainOK(t, "run", cfg, "--out", out, "-q")
+	keep := filepath.Join(out, "notes.txt") // not a gelspace output: kept
+	os.WriteFile(keep, []byte("mine"), 0o644)
+	for _, f := range []string{"report.html", "timelapse.gif", "slices", "plots"} {
+		if _, err := os.Stat(filepath.Join(out, f)); err != nil {
+			t.Fatalf("the run with images lacks %s", f)
+		}
+	}
+	mainOK(t, "run", cfg, "--out", out, "-q", "--no-render", "--force")
+	for _, f := range []string{"report.html", "timelapse.gif", "slices", "plots"} {
+		if _, err := os.Stat(filepath.Join(out, f)); err == nil {
+			t.Errorf("stale %s left by the rerun", f)
+		}
+	}
+	if _, err := os.Stat(keep); err != nil {
+		t.Errorf("--force removed a file that is not a gelspace output: %v", err)
+	}
+}

@@ -128,6 +128,11 @@ func killResume(t *testing.T, cfg string, kills int, seed uint64, extra ...strin
 			t.Errorf("%s differs after %d kills and resumes (%d vs %d bytes)", f, killed, len(a), len(b))
 		}
 	}
+	// The resumes keep the first start's --no-render (or its images).
+	_, err := os.Stat(filepath.Join(got, "report.html"))
+	if noRender := strings.Contains(strings.Join(extra, " "), "--no-render"); noRender != (err != nil) {
+		t.Errorf("--no-render %v, but report.html: %v", noRender, err)
+	}
 	filepath.WalkDir(got, func(p string, d fs.DirEntry, err error) error {
 		if err == nil && (strings.Contains(d.Name(), ".tmp-") || d.Name() == run.CheckpointFile) {
 			t.Errorf("left behind: %s", p)
@@ -136,9 +141,17 @@ func killResume(t *testing.T, cfg string, kills int, seed uint64, extra ...strin
 	})
 }
 
-// checkCompleteLast fails when run.json says complete but an output is
-// missing.
+// checkCompleteLast fails when run.json says complete, or the report
+// (written after every other output) exists, while an output is missing.
 func checkCompleteLast(t *testing.T, dir string) {
+	_, noReport := os.Stat(filepath.Join(dir, "report.html"))
+	if noReport == nil {
+		for _, f := range killOutputs {
+			if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+				t.Errorf("report.html is written but %s is missing", f)
+			}
+		}
+	}
 	data, err := os.ReadFile(filepath.Join(dir, run.ManifestFile))
 	if err != nil {
 		return
@@ -154,6 +167,9 @@ func checkCompleteLast(t *testing.T, dir string) {
 		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
 			t.Errorf("run.json says complete but %s is missing", f)
 		}
+	}
+	if !m.NoRender && noReport != nil {
+		t.Error("run.json says complete but report.html is missing")
 	}
 }
 
