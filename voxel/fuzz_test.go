@@ -2,6 +2,9 @@ package voxel
 
 import (
 	"bytes"
+	"crypto/sha256"
+	"encoding/binary"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -11,11 +14,12 @@ import (
 	"testing"
 
 	"gelspace/internal/fuzzmut"
+	"gelspace/kinetics"
 )
 
 // Fuzz targets of the voxel package's parsers: PSD tables
 // (FuzzPSDTable, in psd_test.go), .npy (FuzzNPY) and .vti (FuzzVTI)
-// volumes. `go test` runs their seed corpora; `go test -fuzz FuzzNPY
+// volumes, checkpoints (FuzzCheckpoint). `go test` runs their seed corpora; `go test -fuzz FuzzNPY
 // ./voxel` explores further; GELSPACE_LONG=1 runs each body a million
 // times on deterministic mutations of the seeds (TestFuzzLong).
 
@@ -218,27 +222,32 @@ func FuzzVTI(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) { fuzzVTI(t, data) })
 }
 
-// TestFuzzLong runs each target's body on a million mutated inputs
-// (GELSPACE_FUZZ_N changes the count); GELSPACE_LONG=1 only.
+// TestFuzzLong runs each target's body on a million mutated inputs (the
+// checkpoint's on 200 000; GELSPACE_FUZZ_N changes the count);
+// GELSPACE_LONG=1 only.
 func TestFuzzLong(t *testing.T) {
 	if os.Getenv("GELSPACE_LONG") == "" {
 		t.Skip("long: set GELSPACE_LONG=1")
 	}
 	n := fuzzmut.Execs(1_000_000)
+	ckSeeds, ckSet := checkpointSeeds(t)
 	for _, c := range []struct {
 		name  string
 		seeds [][]byte
 		body  func(testing.TB, []byte)
+		n     int
 	}{
-		{"PSDTable", psdLongSeeds(t), fuzzPSD},
-		{"NPY", npySeeds(t), fuzzNPY},
+		{"PSDTable", psdLongSeeds(t), fuzzPSD, n},
+		{"NPY", npySeeds(t), fuzzNPY, n},
 		// the small seeds weighted tenfold: XML character data is slow
 		// to decode, and the parser's paths are the same at 2³ as at 12³
-		{"VTI", append(slices.Repeat(smallVTISeeds(t), 10), vtiSeeds(t)...), fuzzVTI},
+		{"VTI", append(slices.Repeat(smallVTISeeds(t), 10), vtiSeeds(t)...), fuzzVTI, n},
+		// a fifth of the count: each accepted input builds an engine
+		{"Checkpoint", ckSeeds, func(t testing.TB, data []byte) { fuzzCheckpoint(t, ckSet, data) }, n / 5},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			t.Parallel()
-			fuzzmut.Run(t, 1, c.seeds, n, func(data []byte) { c.body(t, data) })
+			fuzzmut.Run(t, 1, c.seeds, c.n, func(data []byte) { c.body(t, data) })
 		})
 	}
 }
@@ -277,4 +286,64 @@ func TestFuzzSeedsRead(t *testing.T) {
 			t.Errorf("vti seed %d: phases %v, want %v", i, g.Phase, want)
 		}
 	}
+}
+
+// checkpointSeeds are checkpoints of a 12³ paste (2 µm voxels) at 0 h and after 6 h,
+// and their payloads alone (see fuzzCheckpoint).
+func checkpointSeeds(t testing.TB) ([][]byte, EngineSettings) {
+	g := enginePaste(t, 12, 2, 0.45, 3)
+	set := EngineSettings{Params: kinetics.DefaultParams(), Thermal: kinetics.Thermal{TempC: 20}, Seed: 3}
+	e, err := NewEngine(g, set)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out [][]byte
+	for _, h := range []float64{0, 6} {
+		if err := e.AdvanceTo(h); err != nil {
+			t.Fatal(err)
+		}
+		var b bytes.Buffer
+		if err := e.WriteCheckpoint(&b, &set, []byte("extra")); err != nil {
+			t.Fatal(err)
+		}
+		out = append(out, b.Bytes(), b.Bytes()[len(checkpointMagic)+44:])
+	}
+	return out, set
+}
+
+// fuzzCheckpoint: a checkpoint is refused with an error wrapping
+// ErrCheckpoint, or restores an engine on a grid of its dimensions. An
+// input that does not start with the magic line is taken as a payload and
+// given a valid header (checksum included), so that mutations reach the
+// decoder and the restore, not only the checksum.
+func fuzzCheckpoint(t testing.TB, set EngineSettings, data []byte) {
+	if !bytes.HasPrefix(data, []byte(checkpointMagic)) {
+		sum := sha256.Sum256(data)
+		var h bytes.Buffer
+		h.WriteString(checkpointMagic)
+		binary.Write(&h, binary.BigEndian, uint32(checkpointVersion))
+		h.Write(sum[:])
+		binary.Write(&h, binary.BigEndian, uint64(len(data)))
+		data = append(h.Bytes(), data...)
+	}
+	e, extra, err := ReadCheckpoint(bytes.NewReader(data), set)
+	if err != nil {
+		if !errors.Is(err, ErrCheckpoint) && e != nil {
+			t.Errorf("error %v with an engine", err)
+		}
+		return
+	}
+	g := e.Grid()
+	if n := g.NX * g.NY * g.NZ; len(g.Phase) != n || len(g.Particle) != n {
+		t.Errorf("restored grid %d×%d×%d with %d phases", g.NX, g.NY, g.NZ, len(g.Phase))
+	}
+	_ = extra
+}
+
+func FuzzCheckpoint(f *testing.F) {
+	seeds, set := checkpointSeeds(f)
+	for _, s := range seeds {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) { fuzzCheckpoint(t, set, data) })
 }

@@ -381,6 +381,13 @@ var hostileCases = []hostileCase{
 		h.copy("stop3")
 		os.Truncate(filepath.Join(h.d, "stop3", run.CheckpointFile), 1000)
 	}, args: []string{"run", "--resume", "{d}/stop3", "-q"}, want: []string{"checkpoint.gsck", "truncated"}},
+	{name: "run: --resume a checkpoint whose header claims 32 GiB", setup: func(h *hostileEnv) {
+		h.copy("stop3")
+		p := filepath.Join(h.d, "stop3", run.CheckpointFile)
+		data, _ := os.ReadFile(p)
+		head := append(data[:len("gelspace checkpoint\n")+36:len("gelspace checkpoint\n")+36], 0, 0, 0, 8, 0, 0, 0, 0)
+		os.WriteFile(p, append(head, make([]byte, 1000)...), 0o644)
+	}, args: []string{"run", "--resume", "{d}/stop3", "-q"}, want: []string{"checkpoint.gsck", "truncated", "34359738368", "1000 present"}},
 	{name: "run: --resume a folder without run.json", setup: func(h *hostileEnv) { os.MkdirAll(filepath.Join(h.d, "x"), 0o755) },
 		args: []string{"run", "--resume", "{d}/x", "-q"}, want: []string{"run.json", "run folder"}},
 
