@@ -327,9 +327,9 @@ func (c *Config) Validate() error {
 	limit := maxBoxVoxels()
 	if c.Box.Voxels < minVoxels || c.Box.Voxels > limit {
 		msg := fmt.Sprintf("%d: must be between %d and %d", c.Box.Voxels, minVoxels, limit)
-		if c.Box.Voxels > limit {
+		if c.Box.Voxels > limit && limit < maxVoxelsUI {
 			need := float64(c.Box.Voxels) * float64(c.Box.Voxels) * float64(c.Box.Voxels) * bytesPerVoxel
-			msg += fmt.Sprintf(" (a box of %d³ voxels needs about %.1f GB; %.1f GB of memory is available)", c.Box.Voxels, need/1e9, float64(AvailableBytes())/1e9)
+			msg += fmt.Sprintf(" (packing a box of %d³ voxels needs about %.1f GB, a run much more; %.1f GB of memory is available)", c.Box.Voxels, need/1e9, float64(AvailableBytes())/1e9)
 		}
 		return r.errAt("box.voxels", "%s", msg)
 	}
@@ -431,14 +431,19 @@ func maxBoxVoxels() int {
 func knownKeys(key string) []string {
 	parts := strings.Split(key, ".")
 	t := reflect.TypeOf(Config{})
-	for _, p := range parts[:len(parts)-1] {
-		f, ok := fieldByTag(t, p)
+	for i := 0; i < len(parts)-1; i++ {
+		f, ok := fieldByTag(t, parts[i])
 		if !ok {
 			break
 		}
 		ft := f.Type
 		if ft.Kind() == reflect.Pointer {
 			ft = ft.Elem()
+		}
+		if ft.Kind() == reflect.Map && i+2 < len(parts) {
+			// kinetics.phase.c3s.KEY: the map key (c3s) names an entry
+			ft = ft.Elem()
+			i++
 		}
 		if ft.Kind() != reflect.Struct {
 			break

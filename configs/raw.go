@@ -219,6 +219,21 @@ func (r *Raw) errAt(key, format string, args ...any) *InputError {
 		}
 		k = k[:i]
 	}
+	// A key below the one named (kinetics.phase.xyz.velocity_um_per_h
+	// when the message is about kinetics.phase.xyz) set by --set, and not
+	// in the file, is blamed on that --set.
+	if r.Line(key) == 0 {
+		var below []string
+		for k := range r.sets {
+			if strings.HasPrefix(k, key+".") {
+				below = append(below, k)
+			}
+		}
+		if len(below) > 0 {
+			sort.Strings(below)
+			return &InputError{File: "--set " + r.sets[below[0]], Key: key, Msg: msg}
+		}
+	}
 	return &InputError{File: r.Name, Line: r.Line(key), Key: key, Msg: msg}
 }
 

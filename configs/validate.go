@@ -72,6 +72,7 @@ type kineticsRange struct {
 	key      string
 	lo, hi   float64
 	loOpen   bool // lo itself is not allowed
+	zeroOK   bool // 0 (off) is allowed besides the range
 	unit     string
 	describe string
 }
@@ -91,6 +92,12 @@ var (
 		{key: "attempt_per_h", lo: 1e-3, hi: 1e4, unit: "per h"},
 		{key: "product_length_um", lo: 0, hi: 100, unit: "µm"},
 		{key: "nucleation_ea_kj_per_mol", lo: 0, hi: 150, unit: "kJ/mol"},
+		{key: "product_densify_k", lo: 1, hi: 1000, zeroOK: true, unit: "K"},
+		{key: "sulfate_supply_length_um", lo: 0, hi: 100, loOpen: true, unit: "µm"},
+		{key: "sulfate_half", lo: 1e-3, hi: 1000},
+		{key: "sulfate_hill", lo: 0.1, hi: 20},
+		{key: "water_half_porosity", lo: 1e-3, hi: 1},
+		{key: "water_exponent", lo: 0.1, hi: 20},
 	}
 	kineticsPhase = []kineticsRange{
 		{key: "velocity_um_per_h", lo: 0, hi: 1000, unit: "µm/h"},
@@ -101,7 +108,7 @@ var (
 )
 
 func (q kineticsRange) check(r *Raw, key string, v float64) error {
-	if (q.loOpen && v > q.lo || !q.loOpen && v >= q.lo) && v <= q.hi {
+	if (q.loOpen && v > q.lo || !q.loOpen && v >= q.lo) && v <= q.hi || q.zeroOK && v == 0 {
 		return nil
 	}
 	val := fmt.Sprintf("%g", v)
@@ -111,6 +118,9 @@ func (q kineticsRange) check(r *Raw, key string, v float64) error {
 	low := "≥"
 	if q.loOpen {
 		low = ">"
+	}
+	if q.zeroOK {
+		return r.errAt(key, "%s: must be 0 (off) or between %g and %g", val, q.lo, q.hi)
 	}
 	return r.errAt(key, "%s: must be %s %g and ≤ %g", val, low, q.lo, q.hi)
 }
@@ -126,7 +136,9 @@ func (c *Config) checkKinetics() error {
 		"silicate_saturation":   k.SilicateSaturation, "csh_nucleation_per_um2_h": k.CSHNucleationPerUM2H,
 		"ch_saturation": k.CHSaturation, "ch_nucleation_per_um3_h": k.CHNucleationPerUM3H,
 		"attempt_per_h": k.AttemptPerH, "product_length_um": k.ProductLengthUM,
-		"nucleation_ea_kj_per_mol": k.NucleationEaKJPerMol,
+		"nucleation_ea_kj_per_mol": k.NucleationEaKJPerMol, "product_densify_k": k.ProductDensifyK,
+		"sulfate_supply_length_um": k.SulfateSupplyLengthUM, "sulfate_half": k.SulfateHalf, "sulfate_hill": k.SulfateHill,
+		"water_half_porosity": k.WaterHalfPorosity, "water_exponent": k.WaterExponent,
 	}
 	for _, q := range kineticsTop {
 		if p := top[q.key]; p != nil {

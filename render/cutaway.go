@@ -32,6 +32,10 @@ const (
 	ShadeY   = 0.62 // faces facing +y
 )
 
+// maxBoxHeight bounds the drawn height of the 3D view, in units of its
+// width (CutAwayOptions.BoxPX); a cube's view is 2/√3 ≈ 1.15 widths high.
+const maxBoxHeight = 1.25
+
 // iso is the isometric projection used by the 3D view: world (x, y, z) in
 // voxels maps to screen (u, v) in pixels, v downwards, looking along −(1,1,1)
 // so that the faces x = NX, y = NY and z = NZ are in view.
@@ -106,7 +110,11 @@ func RenderCutAway(v Volume, opt CutAwayOptions) (*image.RGBA, error) {
 	}
 	cut := !opt.NoCut && v.NX >= 2 && v.NY >= 2 && v.NZ >= 2
 	nx, ny, nz := float64(v.NX), float64(v.NY), float64(v.NZ)
-	s := float64(opt.BoxPX) / ((nx + ny) * cos30)
+	// The box fits BoxPX across and maxBoxHeight × BoxPX down, so that
+	// the image, and the time to draw it, stay bounded whatever the
+	// box's aspect ratio (a 1×1×1000 column is drawn as a tall thin
+	// prism, not 370 000 px high). A cube is limited by its width.
+	s := math.Min(float64(opt.BoxPX)/((nx+ny)*cos30), maxBoxHeight*float64(opt.BoxPX)/((nx+ny)/2+nz))
 	boxH := ((nx+ny)/2 + nz) * s
 	top := marginPX + headerPX + 10
 	p := iso{s: s, u0: marginPX + 30 + ny*cos30*s, v0: top + nz*s}

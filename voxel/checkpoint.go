@@ -99,9 +99,11 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 	if n > 1<<36 {
 		return nil, nil, bad("payload length %d is implausible", n)
 	}
-	payload := make([]byte, n)
-	if _, err := io.ReadFull(r, payload); err != nil {
-		return nil, nil, bad("truncated: %d bytes of payload expected", n)
+	// Read as far as the data goes, so that a header claiming a huge
+	// payload in front of a short file cannot make us allocate it.
+	payload, err := io.ReadAll(io.LimitReader(r, int64(n)))
+	if err != nil || uint64(len(payload)) != n {
+		return nil, nil, bad("truncated: %d bytes of payload expected, %d present", n, len(payload))
 	}
 	if sha256.Sum256(payload) != sum {
 		return nil, nil, bad("checksum mismatch: the file is corrupt")

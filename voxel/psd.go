@@ -111,7 +111,7 @@ func ReadPSDTable(r io.Reader) (*PSD, error) {
 		}
 	}
 	if is < 0 || ip < 0 {
-		return nil, fmt.Errorf("PSD table header %q: need columns size_um and passing_percent", strings.Join(head, ","))
+		return nil, fmt.Errorf("PSD table header %q: need columns size_um and passing_percent", excerpt(strings.Join(head, ",")))
 	}
 	var sizes, pass []float64
 	var lines []int
@@ -130,7 +130,7 @@ func ReadPSDTable(r io.Reader) (*PSD, error) {
 		x, err1 := strconv.ParseFloat(strings.TrimSpace(rec[is]), 64)
 		q, err2 := strconv.ParseFloat(strings.TrimSpace(rec[ip]), 64)
 		if err1 != nil || err2 != nil {
-			return nil, fmt.Errorf("PSD table line %d: %q, %q: size_um and passing_percent must be numbers", row, rec[is], rec[ip])
+			return nil, fmt.Errorf("PSD table line %d: %q, %q: size_um and passing_percent must be numbers", row, excerpt(rec[is]), excerpt(rec[ip]))
 		}
 		sizes = append(sizes, x)
 		pass = append(pass, q)

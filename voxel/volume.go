@@ -113,12 +113,17 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		head = append(append([]byte(nil), data[:k]...), rest[:bytes.IndexByte(rest, '>')+1]...)
 		head = append(head, "</AppendedData></VTKFile>"...)
 	}
+	// One ImageData element: the header reader of StatVolume (vtiDims)
+	// takes the first, so a second could slip a larger box past it.
+	if n := bytes.Count(head, []byte("<ImageData")); n != 1 {
+		return nil, fmt.Errorf("vti: %d ImageData elements: need exactly one", n)
+	}
 	var h vtiHead
 	if err := xml.Unmarshal(head, &h); err != nil {
 		return nil, fmt.Errorf("vti: %v", err)
 	}
 	if h.Type != "ImageData" {
-		return nil, fmt.Errorf("vti: file type %q: only ImageData is read", h.Type)
+		return nil, fmt.Errorf("vti: file type %q: only ImageData is read", excerpt(h.Type))
 	}
 	if h.Compressor != "" {
 		return nil, fmt.Errorf("vti: compressed data (%s) is not read: save uncompressed", h.Compressor)
@@ -133,28 +138,28 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 	}
 	ext, err := parseInts(h.Image.WholeExtent, 6)
 	if err != nil {
-		return nil, fmt.Errorf("vti: WholeExtent %q: %v", h.Image.WholeExtent, err)
+		return nil, fmt.Errorf("vti: WholeExtent %q: %v", excerpt(h.Image.WholeExtent), err)
 	}
 	nx, ny, nz := ext[1]-ext[0], ext[3]-ext[2], ext[5]-ext[4]
 	spacing := 1.0
 	if h.Image.Spacing != "" {
 		f := strings.Fields(h.Image.Spacing)
 		if len(f) != 3 {
-			return nil, fmt.Errorf("vti: Spacing %q: need 3 numbers", h.Image.Spacing)
+			return nil, fmt.Errorf("vti: Spacing %q: need 3 numbers", excerpt(h.Image.Spacing))
 		}
 		var s [3]float64
 		for i := range f {
-			if s[i], err = strconv.ParseFloat(f[i], 64); err != nil || !(s[i] > 0) {
-				return nil, fmt.Errorf("vti: Spacing %q: need positive numbers", h.Image.Spacing)
+			if s[i], err = strconv.ParseFloat(f[i], 64); err != nil || !(s[i] > 0) || math.IsInf(s[i], 0) {
+				return nil, fmt.Errorf("vti: Spacing %q: need positive finite numbers", excerpt(h.Image.Spacing))
 			}
 		}
 		if math.Abs(s[1]-s[0]) > 1e-9*s[0] || math.Abs(s[2]-s[0]) > 1e-9*s[0] {
-			return nil, fmt.Errorf("vti: Spacing %q: voxels must be cubes", h.Image.Spacing)
+			return nil, fmt.Errorf("vti: Spacing %q: voxels must be cubes", excerpt(h.Image.Spacing))
 		}
 		spacing = s[0]
 	}
 	if !dimsOK(nx, ny, nz) {
-		return nil, fmt.Errorf("vti: WholeExtent %q: each axis must hold ≥ 1 cell and the total at most %d", h.Image.WholeExtent, int64(MaxVoxels))
+		return nil, fmt.Errorf("vti: WholeExtent %q: each axis must hold ≥ 1 cell and the total at most %d", excerpt(h.Image.WholeExtent), int64(MaxVoxels))
 	}
 	n := nx * ny * nz
 	// Decode the arrays first: the grid is allocated only once the file
@@ -171,20 +176,20 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 			continue
 		}
 		if a.Comps != "" && a.Comps != "1" {
-			return nil, fmt.Errorf("vti: array %q has %s components, want 1", a.Name, a.Comps)
+			return nil, fmt.Errorf("vti: array %q has %s components, want 1", excerpt(a.Name), a.Comps)
 		}
 		size, ok := intSizes[a.Type]
 		if !ok {
-			return nil, fmt.Errorf("vti: array %q of type %q: need an integer type", a.Name, a.Type)
+			return nil, fmt.Errorf("vti: array %q of type %q: need an integer type", excerpt(a.Name), excerpt(a.Type))
 		}
 		var raw []byte
 		switch a.Format {
 		case "appended":
 			if appended == nil {
-				return nil, fmt.Errorf("vti: array %q is appended but the file has no AppendedData", a.Name)
+				return nil, fmt.Errorf("vti: array %q is appended but the file has no AppendedData", excerpt(a.Name))
 			}
 			if a.Offset < 0 || a.Offset > int64(len(appended)) {
-				return nil, fmt.Errorf("vti: array %q: offset %d outside the appended data", a.Name, a.Offset)
+				return nil, fmt.Errorf("vti: array %q: offset %d outside the appended data", excerpt(a.Name), a.Offset)
 			}
 			src := appended[a.Offset:]
 			if h.Appended.Encoding == "base64" {
@@ -197,13 +202,13 @@ func ReadVTI(r io.Reader) (*Grid, error) {
 		case "ascii":
 			raw, err = asciiToBytes(a.Text, a.Type, size, bo)
 		default:
-			return nil, fmt.Errorf("vti: array %q: format %q not read", a.Name, a.Format)
+			return nil, fmt.Errorf("vti: array %q: format %q not read", excerpt(a.Name), excerpt(a.Format))
 		}
 		if err != nil {
-			return nil, fmt.Errorf("vti: array %q: %v", a.Name, err)
+			return nil, fmt.Errorf("vti: array %q: %v", excerpt(a.Name), err)
 		}
 		if len(raw) < n*size {
-			return nil, fmt.Errorf("vti: array %q: %d bytes, need %d for %d cells", a.Name, len(raw), n*size, n)
+			return nil, fmt.Errorf("vti: array %q: %d bytes, need %d for %d cells", excerpt(a.Name), len(raw), n*size, n)
 		}
 		arrays = append(arrays, decoded{a.Name, raw, size, a.Type[0] == 'I'})
 	}
@@ -384,7 +389,7 @@ func asciiToBytes(text, typ string, size int, bo binary.ByteOrder) ([]byte, erro
 	for i, s := range f {
 		v, err := strconv.ParseInt(s, 10, 64)
 		if err != nil {
-			return nil, fmt.Errorf("ascii value %q: need an integer", s)
+			return nil, fmt.Errorf("ascii value %q: need an integer", excerpt(s))
 		}
 		if lo, hi := intRange(typ, size); v < lo || (hi >= 0 && v > hi) {
 			return nil, fmt.Errorf("ascii value %d at position %d does not fit the array type %s", v, i, typ)
@@ -440,8 +445,8 @@ func ReadNPY(r io.Reader) (phase []uint8, nx, ny, nz int, err error) {
 	n := nx * ny * nz
 	// grow with the data so that a short file cannot make us allocate the
 	// size its header claims
-	phase = make([]uint8, 0, min(n, 1<<24))
-	buf := make([]byte, 1<<16-(1<<16)%size)
+	phase = make([]uint8, 0, min(n, 1<<20))
+	buf := make([]byte, min(1<<16-(1<<16)%size, n*size))
 	for i := 0; i < n; {
 		m := min(len(buf)/size, n-i)
 		if got, err := io.ReadFull(br, buf[:m*size]); err != nil {
@@ -528,39 +533,39 @@ func readNPYHeader(br io.Reader) (npyHead, error) {
 	}
 	h.bo = binary.LittleEndian
 	if len(descr) < 3 {
-		return npyHead{}, fmt.Errorf("npy: dtype %q not read", descr)
+		return npyHead{}, fmt.Errorf("npy: dtype %q not read", excerpt(descr))
 	}
 	switch descr[0] {
 	case '>':
 		h.bo = binary.BigEndian
 	case '<', '|', '=':
 	default:
-		return npyHead{}, fmt.Errorf("npy: dtype %q not read", descr)
+		return npyHead{}, fmt.Errorf("npy: dtype %q not read", excerpt(descr))
 	}
 	h.kind = descr[1]
 	size, err := strconv.Atoi(descr[2:])
 	if err != nil || (h.kind != 'u' && h.kind != 'i' && h.kind != 'b') || (size != 1 && size != 2 && size != 4 && size != 8) {
-		return npyHead{}, fmt.Errorf("npy: dtype %q: need an integer or boolean dtype (u1, i2, <i8, ...)", descr)
+		return npyHead{}, fmt.Errorf("npy: dtype %q: need an integer or boolean dtype (u1, i2, <i8, ...)", excerpt(descr))
 	}
 	h.size = size
 	return h, nil
 }
 
-// npyDims reads an .npy header and returns the dimensions and the file
-// length the header implies.
-func npyDims(r io.Reader) (nx, ny, nz int, need int64, err error) {
+// npyDims reads an .npy header and returns the dimensions, the file length
+// the header implies and the length of the header itself.
+func npyDims(r io.Reader) (nx, ny, nz int, need, head int64, err error) {
 	h, err := readNPYHeader(bufio.NewReader(r))
 	if err != nil {
-		return 0, 0, 0, 0, err
+		return 0, 0, 0, 0, 0, err
 	}
-	return h.nx, h.ny, h.nz, h.headerBytes + int64(h.nx)*int64(h.ny)*int64(h.nz)*int64(h.size), nil
+	return h.nx, h.ny, h.nz, h.headerBytes + int64(h.nx)*int64(h.ny)*int64(h.nz)*int64(h.size), h.headerBytes, nil
 }
 
 // parseNPYHeader reads the Python dict literal of an .npy header.
 func parseNPYHeader(h string) (descr string, fortran bool, shape []int, err error) {
 	h = strings.TrimSpace(h)
 	if !strings.HasPrefix(h, "{") || !strings.HasSuffix(h, "}") {
-		return "", false, nil, fmt.Errorf("npy: header %q is not a dict", h)
+		return "", false, nil, fmt.Errorf("npy: header %q is not a dict", excerpt(h))
 	}
 	get := func(key string) (string, bool) {
 		for _, q := range []string{"'", `"`} {
@@ -578,27 +583,27 @@ func parseNPYHeader(h string) (descr string, fortran bool, shape []int, err erro
 	}
 	d, ok := get("descr")
 	if !ok || len(d) < 2 || (d[0] != '\'' && d[0] != '"') {
-		return "", false, nil, fmt.Errorf("npy: header %q: no descr string", h)
+		return "", false, nil, fmt.Errorf("npy: header %q: no descr string", excerpt(h))
 	}
 	end := strings.IndexByte(d[1:], d[0])
 	if end < 0 {
-		return "", false, nil, fmt.Errorf("npy: header %q: bad descr", h)
+		return "", false, nil, fmt.Errorf("npy: header %q: bad descr", excerpt(h))
 	}
 	descr = d[1 : 1+end]
 	f, ok := get("fortran_order")
 	if !ok {
-		return "", false, nil, fmt.Errorf("npy: header %q: no fortran_order", h)
+		return "", false, nil, fmt.Errorf("npy: header %q: no fortran_order", excerpt(h))
 	}
 	switch {
 	case strings.HasPrefix(f, "True"):
 		fortran = true
 	case strings.HasPrefix(f, "False"):
 	default:
-		return "", false, nil, fmt.Errorf("npy: header %q: fortran_order must be True or False", h)
+		return "", false, nil, fmt.Errorf("npy: header %q: fortran_order must be True or False", excerpt(h))
 	}
 	s, ok := get("shape")
 	if !ok || !strings.HasPrefix(s, "(") || !strings.Contains(s, ")") {
-		return "", false, nil, fmt.Errorf("npy: header %q: no shape tuple", h)
+		return "", false, nil, fmt.Errorf("npy: header %q: no shape tuple", excerpt(h))
 	}
 	for _, part := range strings.Split(s[1:strings.IndexByte(s, ')')], ",") {
 		part = strings.TrimSpace(strings.TrimSuffix(strings.TrimSpace(part), "L"))
@@ -607,7 +612,7 @@ func parseNPYHeader(h string) (descr string, fortran bool, shape []int, err erro
 		}
 		v, err := strconv.Atoi(part)
 		if err != nil || v < 0 {
-			return "", false, nil, fmt.Errorf("npy: shape %q: need non-negative integers", s)
+			return "", false, nil, fmt.Errorf("npy: shape %q: need non-negative integers", excerpt(s))
 		}
 		shape = append(shape, v)
 	}
@@ -641,7 +646,7 @@ func ReadVolume(path string) (*Grid, error) {
 		g := &Grid{NX: nx, NY: ny, NZ: nz, VoxelUM: 1, Phase: ph, Particle: make([]int32, len(ph))}
 		return g, nil
 	default:
-		return nil, fmt.Errorf("%s: unknown volume type %q: use .vti or .npy", path, filepath.Ext(path))
+		return nil, fmt.Errorf("%s: unknown volume type %q: use .vti or .npy", path, excerpt(filepath.Ext(path)))
 	}
 }
 
@@ -687,15 +692,17 @@ func StatVolume(path string) (nx, ny, nz int, err error) {
 		k, _ := io.ReadFull(f, head)
 		nx, ny, nz, err = vtiDims(head[:k])
 	case ".npy":
-		var need int64
-		nx, ny, nz, need, err = npyDims(f)
+		var need, head int64
+		nx, ny, nz, need, head, err = npyDims(f)
 		if err == nil {
 			if st, e := f.Stat(); e == nil && st.Size() < need {
-				err = fmt.Errorf("npy: %d bytes, but the header declares %d×%d×%d values (%d bytes)", st.Size(), nx, ny, nz, need)
+				n := int64(nx) * int64(ny) * int64(nz)
+				have := max(st.Size()-head, 0) / ((need - head) / n)
+				err = fmt.Errorf("npy: data ends after %d of the %d values (%d×%d×%d) the header declares", have, n, nz, ny, nx)
 			}
 		}
 	default:
-		return 0, 0, 0, fmt.Errorf("%s: unknown volume type %q: use .vti or .npy", path, filepath.Ext(path))
+		return 0, 0, 0, fmt.Errorf("%s: unknown volume type %q: use .vti or .npy", path, excerpt(filepath.Ext(path)))
 	}
 	if err != nil {
 		return 0, 0, 0, fmt.Errorf("%s: %v", path, err)
@@ -726,11 +733,11 @@ func vtiDims(head []byte) (nx, ny, nz int, err error) {
 	}
 	ext, err := parseInts(string(val[:b]), 6)
 	if err != nil {
-		return 0, 0, 0, fmt.Errorf("vti: WholeExtent %q: %v", val[:b], err)
+		return 0, 0, 0, fmt.Errorf("vti: WholeExtent %q: %v", excerpt(val[:b]), err)
 	}
 	nx, ny, nz = ext[1]-ext[0], ext[3]-ext[2], ext[5]-ext[4]
 	if !dimsOK(nx, ny, nz) {
-		return 0, 0, 0, fmt.Errorf("vti: WholeExtent %q: each axis must hold ≥ 1 cell and the total at most %d", val[:b], int64(MaxVoxels))
+		return 0, 0, 0, fmt.Errorf("vti: WholeExtent %q: each axis must hold ≥ 1 cell and the total at most %d", excerpt(val[:b]), int64(MaxVoxels))
 	}
 	return nx, ny, nz, nil
 }

@@ -16,7 +16,6 @@ import (
 	"gelspace/kinetics"
 	"gelspace/percolation"
 	"gelspace/render"
-	"gelspace/voxel"
 )
 
 type analyzeOpts struct {
@@ -59,7 +58,7 @@ are taken as bonded. --periodic defaults to true for gelspace volumes
 }
 
 // parseLabelMap parses LABEL=CLASS pairs into a label → phase table.
-func parseLabelMap(s string) (map[int]kinetics.ID, error) {
+func parseLabelMap(cmd, s string) (map[int]kinetics.ID, error) {
 	out := map[int]kinetics.ID{}
 	for _, kv := range strings.Split(s, ",") {
 		kv = strings.TrimSpace(kv)
@@ -69,7 +68,7 @@ func parseLabelMap(s string) (map[int]kinetics.ID, error) {
 		l, c, ok := strings.Cut(kv, "=")
 		n, err := strconv.Atoi(strings.TrimSpace(l))
 		if !ok || err != nil || n < 0 || n > 255 {
-			return nil, &usageError{fmt.Sprintf("analyze: --map %q: each entry must be LABEL=CLASS with LABEL an integer 0–255", kv)}
+			return nil, &usageError{fmt.Sprintf("%s: --map %q: each entry must be LABEL=CLASS with LABEL an integer 0–255", cmd, kv)}
 		}
 		var id kinetics.ID
 		switch c = strings.TrimSpace(c); c {
@@ -82,17 +81,17 @@ func parseLabelMap(s string) (map[int]kinetics.ID, error) {
 		default:
 			p := kinetics.ByKey(c)
 			if p == nil {
-				return nil, &usageError{fmt.Sprintf("analyze: --map %q: class %q must be pore, solid, csh or a phase key (%s)", kv, c, strings.Join(kinetics.Keys(kinetics.RolePore, kinetics.RoleClinker, kinetics.RoleSulfate, kinetics.RoleFiller, kinetics.RoleHydrate), ", "))}
+				return nil, &usageError{fmt.Sprintf("%s: --map %q: class %q must be pore, solid, csh or a phase key (%s)", cmd, kv, c, strings.Join(kinetics.Keys(kinetics.RolePore, kinetics.RoleClinker, kinetics.RoleSulfate, kinetics.RoleFiller, kinetics.RoleHydrate), ", "))}
 			}
 			id = p.ID
 		}
 		if _, dup := out[n]; dup {
-			return nil, &usageError{fmt.Sprintf("analyze: --map: label %d given twice", n)}
+			return nil, &usageError{fmt.Sprintf("%s: --map: label %d given twice", cmd, n)}
 		}
 		out[n] = id
 	}
 	if len(out) == 0 {
-		return nil, &usageError{"analyze: --map is empty: give LABEL=CLASS pairs"}
+		return nil, &usageError{cmd + ": --map is empty: give LABEL=CLASS pairs"}
 	}
 	return out, nil
 }
@@ -105,9 +104,21 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	if !(o.tol > 0 && o.tol < 1) {
 		return &usageError{fmt.Sprintf("analyze: --tol %g: must be > 0 and < 1", o.tol)}
 	}
-	g, err := voxel.ReadVolume(path)
+	var lm map[int]kinetics.ID
+	if o.mapping != "" {
+		var err error
+		if lm, err = parseLabelMap("analyze", o.mapping); err != nil {
+			return err
+		}
+	}
+	switch o.periodic {
+	case "auto", "true", "false":
+	default:
+		return &usageError{fmt.Sprintf("analyze: --periodic %q: must be true, false or auto", o.periodic)}
+	}
+	g, err := run.LoadVolume(path, "analyze")
 	if err != nil {
-		return &configs.InputError{File: path, Msg: err.Error()}
+		return err
 	}
 	hasParticles := false
 	for _, p := range g.Particle {
@@ -116,11 +127,7 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 			break
 		}
 	}
-	if o.mapping != "" {
-		lm, err := parseLabelMap(o.mapping)
-		if err != nil {
-			return err
-		}
+	if lm != nil {
 		var unmapped []int
 		seen := map[int]bool{}
 		for i, l := range g.Phase {
@@ -160,8 +167,6 @@ func runAnalyze(o *analyzeOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 		periodic = true
 	case "false":
 		periodic = false
-	default:
-		return &usageError{fmt.Sprintf("analyze: --periodic %q: must be true, false or auto", o.periodic)}
 	}
 	box := percolation.Box{NX: g.NX, NY: g.NY, NZ: g.NZ, Periodic: [3]bool{periodic, periodic, periodic}}
 	rep, err := run.Analyze(box, g, o.tol)
@@ -234,23 +239,27 @@ func renderCommand() *command {
 				return &usageError{fmt.Sprintf("render: takes one VOLUME (.vti or .npy), got %d arguments; see gelspace render --help", fs.NArg())}
 			}
 			path := fs.Arg(0)
-			g, err := voxel.ReadVolume(path)
-			if err != nil {
-				return &configs.InputError{File: path, Msg: err.Error()}
+			if o.out == "" {
+				return &usageError{"render: --out must name a folder"}
 			}
+			if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
+				return &usageError{fmt.Sprintf("render: --out %s exists and is not a folder", o.out)}
+			}
+			var lm map[int]kinetics.ID
 			if o.mapping != "" {
-				lm, err := parseLabelMap(o.mapping)
-				if err != nil {
+				var err error
+				if lm, err = parseLabelMap("render", o.mapping); err != nil {
 					return err
 				}
-				for i, l := range g.Phase {
-					if id, ok := lm[int(l)]; ok {
-						g.Phase[i] = id
-					}
-				}
 			}
-			if err := os.MkdirAll(o.out, 0o755); err != nil {
+			g, err := run.LoadVolume(path, "render")
+			if err != nil {
 				return err
+			}
+			for i, l := range g.Phase {
+				if id, ok := lm[int(l)]; ok {
+					g.Phase[i] = id
+				}
 			}
 			pos := map[render.Plane]int{}
 			for _, c := range []struct {
@@ -262,9 +271,13 @@ func renderCommand() *command {
 					continue
 				}
 				if c.v < 0 || c.v >= c.n {
-					return &usageError{fmt.Sprintf("render: --%s %d: must be between 0 and %d", c.flag, c.v, c.n-1)}
+					return &usageError{fmt.Sprintf("render: --%s %d: must be between 0 and %d (the volume is %d×%d×%d voxels)", c.flag, c.v, c.n-1, g.NX, g.NY, g.NZ)}
 				}
 				pos[c.p] = c.v
+			}
+			// Only now, with every input checked, is the folder made.
+			if err := os.MkdirAll(o.out, 0o755); err != nil {
+				return err
 			}
 			files, err := render.RenderVolume(o.out, g.Phase, g.NX, g.NY, g.NZ, g.VoxelUM, render.Options{LegendAll: o.legendAll, Positions: pos})
 			if err != nil {

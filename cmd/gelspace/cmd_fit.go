@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"io"
+	"os"
 	"path/filepath"
 	"slices"
 	"strconv"
@@ -71,6 +72,13 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 	if o.maxEvals < 10 || o.maxEvals > 10000 {
 		return &usageError{fmt.Sprintf("fit: --max-evals %d: must be between 10 and 10000", o.maxEvals)}
 	}
+	// The output folder is checked before the (long) fit, not after it.
+	if o.out == "" {
+		return &usageError{"fit: --out must name a folder"}
+	}
+	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
+		return &usageError{fmt.Sprintf("fit: --out %s exists and is not a folder", o.out)}
+	}
 	fixed, fixSets, err := parseFixes(o.fix)
 	if err != nil {
 		return err
@@ -88,6 +96,9 @@ func runFit(o *fitOpts, fs *pflag.FlagSet, stdout io.Writer) error {
 		sets = append(sets, fmt.Sprintf("seed=%d", o.seed))
 	}
 	if fs.Changed("size") {
+		if err := checkSize("fit", o.size); err != nil {
+			return err
+		}
 		sets = append(sets, fmt.Sprintf("box.voxels=%d", o.size))
 	}
 	// The run ends at the last measured time; output ages beyond it are

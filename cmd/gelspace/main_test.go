@@ -61,7 +61,7 @@ var badInputs = []struct {
 		want: []string{"cfg.toml:5", "psd.table", "passing_percent = 130", "between 0 and 100"}},
 	{name: "psd coarser than box", edit: [2]string{"x_um = 8.0", "x_um = 80.0"}, want: []string{"cfg.toml", "psd", "coarser than", "enlarge box.voxels"}},
 	{name: "box too small", edit: [2]string{"voxels = 30", "voxels = 4"}, want: []string{"cfg.toml:9", "box.voxels", "between 10 and"}},
-	{name: "box too large for memory", edit: [2]string{"voxels = 30", "voxels = 100000"}, want: []string{"cfg.toml:9", "box.voxels", "needs about", "GB"}},
+	{name: "box too large", edit: [2]string{"voxels = 30", "voxels = 100000"}, want: []string{"cfg.toml:9", "box.voxels", "between 10 and"}},
 	{name: "zero voxel size", edit: [2]string{"voxel_um = 1.0", "voxel_um = 0.0"}, want: []string{"cfg.toml:10", "box.voxel_um", "between 0.05 and 20"}},
 	{name: "negative voxel size", edit: [2]string{"voxel_um = 1.0", "voxel_um = -1.0"}, want: []string{"cfg.toml:10", "box.voxel_um"}},
 	{name: "malformed TOML", edit: [2]string{"w_c = 0.45", "w_c = = 0.45"}, want: []string{"cfg.toml:7", "malformed TOML"}},

@@ -3,6 +3,7 @@ package fit
 import (
 	"bytes"
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -90,10 +91,17 @@ func ParseMeasured(name string, r io.Reader) (*Measured, error) {
 		if err == io.EOF {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
+			// FieldPos is not defined after an error; the ParseError
+			// holds the line.
+			line := 0
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				line, err = pe.Line, pe.Err
+			}
 			return nil, bad(line, "%v", err)
 		}
+		line, _ := cr.FieldPos(0)
 		if len(rec) <= max(ti, vi) {
 			return nil, bad(line, "too few columns")
 		}

@@ -1,8 +1,14 @@
 package run
 
 import (
+	"errors"
 	"fmt"
+	"io/fs"
 	"math"
+	"os"
+	"strings"
+
+	"gelspace/configs"
 
 	"gelspace/percolation"
 	"gelspace/render"
@@ -68,4 +74,56 @@ func Analyze(box percolation.Box, g *voxel.Grid, tol float64) (*Analysis, error)
 		}
 	}
 	return rep, nil
+}
+
+// Memory per voxel of a volume read by gelspace analyze and render, on top
+// of the file itself (a .vti is held whole while decoded): the phase and
+// particle arrays (5 bytes) and their decoded copy; analyze adds the pore
+// and solid labelling and the D/D0 solver (as a run's diffusivity step).
+const (
+	readBytesPerVoxel    = 10
+	analyzeBytesPerVoxel = readBytesPerVoxel + 30 + diffBytesPerVoxel
+	renderBytesPerVoxel  = readBytesPerVoxel + 2
+)
+
+// VolumeError is the InputError for a volume that cannot be read: one
+// line naming the file once ("scan.npy: cannot read volume: …").
+func VolumeError(path string, err error) *configs.InputError {
+	var pe *fs.PathError
+	msg := err.Error()
+	if errors.As(err, &pe) && pe.Path == path {
+		msg = pe.Err.Error()
+	}
+	msg = strings.TrimPrefix(msg, path+": ")
+	return &configs.InputError{File: path, Msg: "cannot read volume: " + msg}
+}
+
+// LoadVolume reads the volume at path for a command (analyze or render):
+// first only its header (voxel.StatVolume), to refuse before allocating
+// a volume whose reading and processing would not fit in the memory
+// available, then the whole file. Errors are *configs.InputError.
+func LoadVolume(path, command string) (*voxel.Grid, error) {
+	nx, ny, nz, err := voxel.StatVolume(path)
+	if err != nil {
+		return nil, VolumeError(path, err)
+	}
+	per := float64(renderBytesPerVoxel)
+	if command == "analyze" {
+		per = analyzeBytesPerVoxel
+	}
+	var size int64
+	if st, err := os.Stat(path); err == nil {
+		size = st.Size()
+	}
+	n := float64(nx) * float64(ny) * float64(nz)
+	need, avail := float64(size)+n*per, float64(configs.AvailableBytes())
+	if need > avail {
+		return nil, &configs.InputError{File: path, Msg: fmt.Sprintf("%d×%d×%d voxels: %s needs about %.1f GB and %.1f GB is available: crop or coarsen the volume",
+			nx, ny, nz, command, need/1e9, avail/1e9)}
+	}
+	g, err := voxel.ReadVolume(path)
+	if err != nil {
+		return nil, VolumeError(path, err)
+	}
+	return g, nil
 }

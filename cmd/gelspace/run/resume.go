@@ -111,6 +111,16 @@ func ReadManifest(dir string) (*Manifest, error) {
 	if man.Version != Version {
 		return nil, &configs.InputError{File: path, Msg: fmt.Sprintf("written by gelspace %s; this is %s: resume with the same version", configs.Snippet(man.Version), Version)}
 	}
+	// The config text is checked here, so that a hand-edited one is blamed
+	// on run.json rather than on the config file it was copied from.
+	if _, err := configs.ParseRaw(man.ConfigName, man.ConfigDir, []byte(man.ConfigText)); err != nil {
+		msg := err.Error()
+		var ie *configs.InputError
+		if errors.As(err, &ie) {
+			msg = fmt.Sprintf("line %d: %s", ie.Line, ie.Msg)
+		}
+		return nil, &configs.InputError{File: path, Key: "config_text", Msg: msg + ": run.json was edited; it must hold the config the run started with"}
+	}
 	return &man, nil
 }
 
@@ -141,6 +151,9 @@ func prepareOut(dir string, force bool) error {
 		return nil
 	}
 	if !force {
+		if m, err := ReadManifest(dir); err == nil && !m.Complete {
+			return &configs.InputError{File: dir, Msg: "folder holds an unfinished run (run.json: complete false); continue it with --resume " + dir + ", or replace it with --force"}
+		}
 		return &configs.InputError{File: dir, Msg: "folder holds another run; use --force to replace it, or --resume to continue it"}
 	}
 	for _, n := range outputNames {

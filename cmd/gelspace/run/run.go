@@ -216,6 +216,10 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 			return nil, &configs.InputError{File: o.Out, Msg: "no run to resume here (no run.json)"}
 		}
 		if man.Complete {
+			// A stop just after run.json was marked complete can leave the
+			// checkpoint and temporary files behind: they go now.
+			os.Remove(filepath.Join(o.Out, CheckpointFile))
+			removeTemps(o.Out)
 			return nil, &configs.InputError{File: filepath.Join(o.Out, ManifestFile), Msg: "the run is complete: nothing to resume"}
 		}
 		e, extra, ok, err := readResumeState(o.Out, cfg, man, set)
@@ -241,7 +245,7 @@ func Run(cfg *configs.Config, o Options) (*Result, error) {
 		if o.From != "" {
 			path := filepath.Join(o.From, "pack.vti")
 			if g, err = voxel.ReadVolume(path); err != nil {
-				return nil, &configs.InputError{File: path, Msg: err.Error()}
+				return nil, VolumeError(path, err)
 			}
 			if g.NX != cfg.Box.Voxels || g.NY != cfg.Box.Voxels || g.NZ != cfg.Box.Voxels || g.VoxelUM != cfg.Box.VoxelUM {
 				return nil, &configs.InputError{File: path, Key: "box", Msg: fmt.Sprintf("the pack is %d×%d×%d voxels of %g µm, the config says %d³ of %g µm: use the config the pack was made with", g.NX, g.NY, g.NZ, g.VoxelUM, cfg.Box.Voxels, cfg.Box.VoxelUM)}
