@@ -80,7 +80,11 @@ func printMix(w io.Writer, rep run.MixReport) {
 		}
 		tw.Flush()
 		for _, s := range rep.SCMs {
-			fmt.Fprintf(w, "  %s: reactive part %s; %s; %s\n", s.Kind, s.Composition, s.PSD, s.Representation)
+			fmt.Fprintf(w, "  %s: reactive part %s; %s; %s", s.Kind, s.Composition, s.PSD, s.Representation)
+			if s.CoarserThanBox > 0.0005 {
+				fmt.Fprintf(w, "; %.1f %% coarser than the box's largest particle, its finer sizes scaled up to the SCM's full mass (not carried like the cement's)", 100*s.CoarserThanBox)
+			}
+			fmt.Fprintln(w)
 		}
 	}
 	if b := rep.Bogue; b != nil {

@@ -197,7 +197,8 @@ func Resolve(cfg *configs.Config) (*Mix, error) {
 // holds all the water of the mix at its w/c.
 func (m *Mix) splitCoarse() {
 	// Only the cement's own PSD has a carried tail: each SCM is packed
-	// with its own classes (its coarsest sizes in the largest class).
+	// with its own classes, its sizes coarser than the box left out and
+	// the rest scaled up to its full mass.
 	t := m.Classes.Truncated
 	cementSolid := 0.0
 	for id, f := range m.CementPaste {
@@ -275,6 +276,10 @@ type SCMReport struct {
 	D90UM            float64 `json:"d90_um"`
 	SurfaceM2PerKg   float64 `json:"specific_surface_psd_m2_per_kg"`
 	FinerThanVoxel   float64 `json:"finer_than_voxel_fraction"`
+	// CoarserThanBox is the SCM's share coarser than the box's largest
+	// particle: unlike the cement's, it is not carried; the SCM's finer
+	// sizes are scaled up to its full mass.
+	CoarserThanBox float64 `json:"coarser_than_box_fraction"`
 }
 
 // PhaseReport is one phase of the powder.
@@ -361,7 +366,8 @@ func (m *Mix) Report() MixReport {
 				VolumePercent: 100 * sm.MassFrac / sm.DensityGPerCM3 / vs, PastePercent: 100 * (sm.PasteGlass + sm.PasteCryst),
 				DensityGPerCM3: sm.DensityGPerCM3, AmorphousPercent: 100 * sm.Amorphous, Composition: kinetics.Lookup(sm.Kind.Phase).Name,
 				Representation: "particles", PSD: sm.PSD.String(), D10UM: sm.PSD.QuantileUM(0.1), D50UM: sm.PSD.MedianUM(), D90UM: sm.PSD.QuantileUM(0.9),
-				SurfaceM2PerKg: sm.PSD.SpecificSurfaceM2PerKg(sm.DensityGPerCM3), FinerThanVoxel: sm.PSD.Passing(m.Cfg.Box.VoxelUM)}
+				SurfaceM2PerKg: sm.PSD.SpecificSurfaceM2PerKg(sm.DensityGPerCM3), FinerThanVoxel: sm.PSD.Passing(m.Cfg.Box.VoxelUM),
+				CoarserThanBox: sm.Classes.Truncated}
 			if sm.SubVoxel {
 				r.Representation = fmt.Sprintf("subvoxel: single-voxel agglomerates reacting by the powder's own surface, %.3g µm² per µm³", sm.SurfacePerUM)
 			}
@@ -373,8 +379,8 @@ func (m *Mix) Report() MixReport {
 	}
 	c := m.Classes
 	rep.PSD = PSDReport{Description: m.PSD.String(), D10UM: m.PSD.QuantileUM(0.1), D50UM: m.PSD.MedianUM(),
-		D90UM: m.PSD.QuantileUM(0.9), SurfaceSpheresM2PerKg: m.PSD.SpecificSurfaceM2PerKg(rho),
-		SurfaceVoxelM2PerKg: c.SpecificSurfaceM2PerKg(rho), FinerThanVoxel: c.FinerThanVoxel,
+		D90UM: m.PSD.QuantileUM(0.9), SurfaceSpheresM2PerKg: m.PSD.SpecificSurfaceM2PerKg(m.Cement.DensityGPerCM3()),
+		SurfaceVoxelM2PerKg: c.SpecificSurfaceM2PerKg(m.Cement.DensityGPerCM3()), FinerThanVoxel: c.FinerThanVoxel,
 		FineRepresentation: "merged into the 1-voxel class (single-voxel particles)",
 		MaxDiameterVoxels:  c.MaxDiameter,
 		MaxDiameterUM:      float64(c.MaxDiameter) * c.VoxelUM, DigitisedMedianVoxels: c.MedianDiameter(),
