@@ -57,8 +57,10 @@ func at(t *testing.T, h *hydration, th float64, col int) float64 {
 //   - Heat at 1 d per gram of binder lower with slag and with fly ash than
 //     for the plain cement (common practice: isothermal calorimetry of
 //     blended cements; slow SCMs add little heat in the first day).
-//   - D/D0 at 28 d lower with 10 % silica fume (common practice: silica fume
-//     lowers the diffusivity and electrical conductivity of paste).
+//   - D/D0 at 28 d lower with 10 % silica fume, and that of the capillary
+//     pores alone too (common practice: silica fume lowers the diffusivity
+//     and electrical conductivity of paste and disconnects its capillary
+//     pores).
 func TestBlendsAgainstPlainCement(t *testing.T) {
 	plain := blendRun(t, 48, 1, 0.45, 7)
 	sf := blendRun(t, 48, 1, 0.45, 7, "silica_fume 10")
@@ -96,6 +98,9 @@ func TestBlendsAgainstPlainCement(t *testing.T) {
 	}
 	if v, vp := at(t, sf, d28, colDiff), at(t, plain, d28, colDiff); !(v < vp) {
 		t.Errorf("D/D0 at 28 d: 10 %% silica fume %.4g, plain %.4g: want lower", v, vp)
+	}
+	if v, vp := at(t, sf, d28, colDiffCap), at(t, plain, d28, colDiffCap); !(v < vp) {
+		t.Errorf("D/D0 of the capillary pores at 28 d: 10 %% silica fume %.4g, plain %.4g: want lower", v, vp)
 	}
 	if !math.IsNaN(at(t, plain, d28, colAlphaSlag)) {
 		t.Error("alpha_slag of a plain cement is not NaN")

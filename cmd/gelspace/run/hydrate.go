@@ -25,7 +25,7 @@ var seriesHead = []string{"time_h", "temperature_c", "alpha", "alpha_c3s", "alph
 	"alpha_silica_fume", "alpha_fly_ash", "alpha_slag", "alpha_metakaolin",
 	"heat_j_per_g", "heat_flow_mw_per_g", "chem_shrinkage_ml_per_g", "water_consumed_g_per_g",
 	"nonevaporable_water_g_per_g", "capillary_porosity", "water_filled_porosity",
-	"solids_connected_fraction", "solids_span_axes", "pores_connected_fraction", "pores_span_axes", "rel_diffusivity",
+	"solids_connected_fraction", "solids_span_axes", "pores_connected_fraction", "pores_span_axes", "rel_diffusivity", "rel_diffusivity_capillary",
 	"formation_factor", "equivalent_age_h", "gel_space_ratio", "gel_porosity", "total_porosity",
 	"ch_g_per_100g", "bound_water_g_per_100g", "aft_g_per_100g", "afm_g_per_100g", "csh_g_per_100g"}
 
@@ -54,6 +54,7 @@ const (
 	colPoresFrac
 	colPoresSpan
 	colDiff
+	colDiffCap
 	colFormation
 	colEqAge
 	colGelSpace
@@ -91,6 +92,7 @@ type runState struct {
 	Outputs  []int       // indices of the output rows in Samples
 	Frames   [][]byte    // mid xy plane at each output age
 	Diff     [][3]float64
+	DiffCap  [][3]float64 // of the capillary pores alone (C-S-H insulating)
 	DiffAt   []float64
 	Set      *Transition
 	Deperc   *Transition
@@ -162,6 +164,20 @@ func newHydration(cfg *configs.Config, set voxel.EngineSettings, e *voxel.Engine
 	g := e.Grid()
 	h.box = percolation.PeriodicBox(g.NX, g.NY, g.NZ)
 	return h
+}
+
+// CapillaryDiffusivities is the D/D0 table of the capillary pores alone:
+// 1 for every pore id, 0 for every solid, C-S-H included — the transport
+// that the capillary pore network carries, which stops at its
+// depercolation.
+func CapillaryDiffusivities() [kinetics.NumIDs]float64 {
+	var t [kinetics.NumIDs]float64
+	for id := range kinetics.NumIDs {
+		if kinetics.IsPore(kinetics.ID(id)) {
+			t[id] = 1
+		}
+	}
+	return t
 }
 
 // scmAlphaPhases are the reactive phases of the alpha_<kind> columns, in
@@ -309,6 +325,19 @@ func (h *hydration) step() (bool, error) {
 			r[colDiff] = (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
 			h.st.Diff = append(h.st.Diff, d.Rel)
 			h.st.DiffAt = append(h.st.DiffAt, t)
+			// The capillary pores alone: no solve once they no longer
+			// span the box (D/D0 is then 0 along every axis).
+			var dc [3]float64
+			if p.SpanAxes > 0 {
+				tab := CapillaryDiffusivities()
+				c, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol, Table: &tab})
+				if err != nil {
+					return false, fmt.Errorf("capillary-pore diffusivity at %g h: %w", t, err)
+				}
+				dc = c.Rel
+			}
+			r[colDiffCap] = (dc[0] + dc[1] + dc[2]) / 3
+			h.st.DiffCap = append(h.st.DiffCap, dc)
 		}
 		if h.last() {
 			// Nothing is labelled or solved after the last age: the

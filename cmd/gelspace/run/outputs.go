@@ -224,6 +224,10 @@ type EquivalentAgeMethod struct {
 type DiffusivityAt struct {
 	TimeH        float64     `json:"time_h"`
 	Rel          [3]float64  `json:"rel"`
+	// RelCapillary is D/D0 of the capillary pores alone (C-S-H taken as
+	// insulating): 0 once they have depercolated. Absent in runs written
+	// before it existed.
+	RelCapillary *[3]float64 `json:"rel_capillary,omitempty"`
 	Formation    [3]*float64 `json:"formation_factor"`
 	ChlorideDEff [3]float64  `json:"chloride_d_eff_m2_per_s"`
 }
@@ -287,6 +291,10 @@ func (h *hydration) summary(m *Mix) *Summary {
 	s.Blend = h.blendSummary(m)
 	for k, t := range h.st.DiffAt {
 		d := DiffusivityAt{TimeH: t, Rel: h.st.Diff[k]}
+		if k < len(h.st.DiffCap) {
+			c := h.st.DiffCap[k]
+			d.RelCapillary = &c
+		}
 		for a := range 3 {
 			if d.Rel[a] > 0 {
 				d.Formation[a] = ptr(1 / d.Rel[a]) // JSON has no infinity: null marks "no conducting path"
@@ -598,6 +606,9 @@ func resultRows(s *render.Series, sum *Summary) []render.Row {
 	}
 	for _, d := range sum.RelDiffusivity {
 		rows = append(rows, render.Row{Label: "D/D0 at " + ageLabel(d.TimeH), Value: fmt.Sprintf("x %.3g, y %.3g, z %.3g", d.Rel[0], d.Rel[1], d.Rel[2])})
+		if c := d.RelCapillary; c != nil {
+			rows = append(rows, render.Row{Label: "D/D0 of the capillary pores alone at " + ageLabel(d.TimeH) + " (C-S-H insulating)", Value: fmt.Sprintf("x %.3g, y %.3g, z %.3g", c[0], c[1], c[2])})
+		}
 	}
 	if b := sum.Blend; b != nil {
 		for _, sc := range b.SCMs {

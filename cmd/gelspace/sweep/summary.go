@@ -94,6 +94,14 @@ func Outputs() []Output {
 			}
 			return math.NaN()
 		}},
+		Output{"rel_diffusivity_capillary_final", "D/D0 of the capillary pores alone at the end", func(s *run.Summary) float64 {
+			for _, d := range s.RelDiffusivity {
+				if math.Abs(d.TimeH-s.Final.TimeH) < 1e-9 && d.RelCapillary != nil {
+					return (d.RelCapillary[0] + d.RelCapillary[1] + d.RelCapillary[2]) / 3
+				}
+			}
+			return math.NaN()
+		}},
 		Output{"psd_d50_um", "d50 of the PSD, µm", func(s *run.Summary) float64 { return s.Mix.PSDStats.D50UM }},
 		Output{"psd_surface_m2_per_kg", "specific surface from the PSD (spheres, not Blaine), m²/kg", func(s *run.Summary) float64 {
 			return s.Mix.PSDStats.SurfaceSpheresM2PerKg
