@@ -222,8 +222,8 @@ type EquivalentAgeMethod struct {
 // 1/(D/D0) (null where no path conducts) and the chloride estimate
 // D0(Cl⁻)/F per axis, m²/s.
 type DiffusivityAt struct {
-	TimeH        float64     `json:"time_h"`
-	Rel          [3]float64  `json:"rel"`
+	TimeH float64    `json:"time_h"`
+	Rel   [3]float64 `json:"rel"`
 	// RelCapillary is D/D0 of the capillary pores alone (C-S-H taken as
 	// insulating): 0 once they have depercolated. Absent in runs written
 	// before it existed.
