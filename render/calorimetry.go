@@ -36,7 +36,7 @@ const CalorimetryMaxH = 72.0
 // returns false when the series has no heat flow in that span.
 func calorimetryFigure(t, flow []float64, marks *CalorimetryMarks) (Figure, bool, error) {
 	opt := PlotOptions{LinearTime: true}
-	p := newPlot("Heat flow, first 3 days (isothermal calorimetry view)", "heat flow (mW per g of cement)", opt)
+	p := newPlot("Heat flow, first 3 days (isothermal calorimetry view)", "heat flow (mW per g of "+opt.powder()+")", opt)
 	var ts, qs []float64
 	end := 0.0
 	for i := range t {

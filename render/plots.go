@@ -36,6 +36,16 @@ type PlotOptions struct {
 	// Calorimetry, when not nil, marks its landmarks on the calorimetry
 	// plot.
 	Calorimetry *CalorimetryMarks
+	// Powder names what the per-gram values are of: "cement" when empty,
+	// "binder" for a blend.
+	Powder string
+}
+
+func (o PlotOptions) powder() string {
+	if o.Powder == "" {
+		return "cement"
+	}
+	return o.Powder
 }
 
 // Figure is one rendered plot.

@@ -446,7 +446,7 @@ func writeRunImages(dir string, m *Mix, h *hydration, sum *Summary) error {
 	}
 	jobs = append(jobs, func() error {
 		var err error
-		figs, err = render.RenderPlots(series, render.PlotOptions{WC: cfg.Mix.WC, SetTimeH: setH, DepercolationTimeH: depH, Calorimetry: calorimetryMarks(sum.Calorimetry)})
+		figs, err = render.RenderPlots(series, render.PlotOptions{WC: cfg.Mix.WC, SetTimeH: setH, DepercolationTimeH: depH, Calorimetry: calorimetryMarks(sum.Calorimetry), Powder: powderName(cfg)})
 		if err != nil {
 			return err
 		}
@@ -645,6 +645,22 @@ func resultRows(s *render.Series, sum *Summary) []render.Row {
 	return rows
 }
 
+// powderName is what per-gram values are of: the cement, or the binder
+// of a blend.
+func powderName(cfg *configs.Config) string {
+	if cfg.IsBlend() {
+		return "binder"
+	}
+	return "cement"
+}
+
+func powderOf(sum *Summary) string {
+	if sum.Blend != nil {
+		return "binder"
+	}
+	return "cement"
+}
+
 // calorimetryMarks are the landmarks to mark on the calorimetry plot.
 func calorimetryMarks(c Calorimetry) *render.CalorimetryMarks {
 	v := func(p *float64) float64 {
@@ -681,7 +697,7 @@ func calorimetryRows(sum *Summary) []render.Row {
 		}
 	}
 	if len(parts) > 0 {
-		rows = append(rows, render.Row{Label: "Cumulative heat, J per g of cement", Value: strings.Join(parts, ", ")})
+		rows = append(rows, render.Row{Label: "Cumulative heat, J per g of " + powderOf(sum), Value: strings.Join(parts, ", ")})
 	}
 	return rows
 }
