@@ -450,6 +450,17 @@ var hostileCases = []hostileCase{
 	{name: "sweep: base config /dev/zero", setup: sweepFile("name = \"x\"\nbase = \"/dev/zero\"\n[axes]\n\"mix.w_c\" = [0.4]\n"), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out"}, want: []string{"s.toml", "base", "not a regular file"}},
 	{name: "sweep: unknown axis key", setup: sweepFile(sweepHead + "[axes]\n\"mix.wc\" = [0.4, 0.5]\n"), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out"}, want: []string{"mix.wc", "unknown key"}},
 	{name: "sweep: --out is a file", setup: func(h *hostileEnv) { sweepFile(hostileSweep)(h); h.write("file", "x") }, args: []string{"sweep", "{d}/s.toml", "--out", "{d}/file"}, want: []string{"--out", "not a folder"}},
+	{name: "sweep: collect a folder whose plan is /dev/zero", setup: func(h *hostileEnv) {
+		os.MkdirAll(filepath.Join(h.d, "x"), 0o755)
+		os.Symlink("/dev/zero", filepath.Join(h.d, "x", "sweep.json"))
+	}, args: []string{"sweep", "collect", "{d}/x"}, want: []string{"sweep.json", "not a regular file", "sweep folder"}},
+	{name: "sweep: collect with a point's summary replaced by /dev/zero", setup: func(h *hostileEnv) {
+		h.copy("sweep")
+		p := filepath.Join(h.d, "sweep", "points", "p0000_r0", "summary.json")
+		os.Remove(p)
+		os.Symlink("/dev/zero", p)
+	}, args: []string{"sweep", "collect", "{d}/sweep"}, want: []string{"p0000_r0", "summary.json", "not a regular file"}},
+	{name: "sweep: plan --out is a file", setup: func(h *hostileEnv) { sweepFile(hostileSweep)(h); h.write("file", "x") }, args: []string{"sweep", "plan", "{d}/s.toml", "--out", "{d}/file"}, want: []string{"--out", "not a folder"}},
 	{name: "sweep: --jobs 0", setup: sweepFile(hostileSweep), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out", "--jobs", "0"}, want: []string{"--jobs 0", "≥ 1"}},
 
 	// fit
