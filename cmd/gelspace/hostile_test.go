@@ -315,6 +315,8 @@ var hostileCases = []hostileCase{
 	{name: "run: unknown kinetics phase key lists the phase keys", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "kinetics.phase.c3s.velocity=1"}, want: []string{"kinetics.phase.c3s.velocity", "unknown key", "velocity_um_per_h"}},
 	{name: "run: NaN w/c", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "mix.w_c=nan"}, want: []string{"mix.w_c", "finite"}},
 	{name: "run: NaN output age", setup: func(h *hostileEnv) { h.config("times_h = [4, 8, 24]", "times_h = [4, nan, 24]") }, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q"}, want: []string{"cfg.toml:13", "output.times_h", "finite"}},
+	{name: "run: 10^7 samples (until 100000 h every 0.01 h) refused, not allocated", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "curing.until_h=100000", "--set", "output.sample_every_h=0.01"},
+		want: []string{"output.sample_every_h", "10000000 samples", "at most 200000", "0.5 h"}},
 	{name: "run: infinite until_h by --set", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "curing.until_h=inf"}, want: []string{"curing.until_h", "finite"}},
 	{name: "run: --until Inf", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--until", "Inf"}, want: []string{"--until", "> 0 and ≤ 100000"}},
 	{name: "run: --until -1", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--until", "-1"}, want: []string{"--until", "> 0"}},
