@@ -476,6 +476,7 @@ var hostileCases = []hostileCase{
 	{name: "fit: binary curve", setup: func(h *hostileEnv) { h.binary("m.csv", 2000) }, args: []string{"fit", "{d}/m.csv", "--out", "{d}/out"}, want: []string{"m.csv", "not a text file"}},
 	{name: "fit: too few rows", setup: fitCurve("time_h,heat_j_per_g\n1,1\n2,3\n"), args: []string{"fit", "{d}/m.csv", "--out", "{d}/out"}, want: []string{"m.csv", "2 rows", "at least 5"}},
 	{name: "fit: --size 2000", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--size", "2000"}, want: []string{"fit: --size 2000", "between 10 and 1000"}},
+	{name: "fit: --size 1000 with 16 seeds quotes the fit's memory", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--size", "1000", "--seeds", "16"}, want: []string{"--size 1000", "--seeds 16", "16 boxes of 1000³ voxels need about", "GB"}},
 	{name: "fit: --seeds 0", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--seeds", "0"}, want: []string{"--seeds 0", "between 1 and 16"}},
 	{name: "fit: --fix of an unknown multiplier", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--fix", "speed=2"}, want: []string{"--fix", "dissolution_scale"}},
 	{name: "fit: --fix NaN", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--fix", "nucleation_scale=nan"}, want: []string{"--fix", "> 0 and ≤ 1000"}},
