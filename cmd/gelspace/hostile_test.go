@@ -463,6 +463,7 @@ var hostileCases = []hostileCase{
 		os.Symlink("/dev/zero", p)
 	}, args: []string{"sweep", "collect", "{d}/sweep"}, want: []string{"p0000_r0", "summary.json", "not a regular file"}},
 	{name: "sweep: plan --out is a file", setup: func(h *hostileEnv) { sweepFile(hostileSweep)(h); h.write("file", "x") }, args: []string{"sweep", "plan", "{d}/s.toml", "--out", "{d}/file"}, want: []string{"--out", "not a folder"}},
+	{name: "sweep: boxes too large for memory side by side", setup: sweepFile(sweepHead + "[axes]\n\"box.voxels\" = [900, 1000]\n"), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out", "--jobs", "2"}, want: []string{"--jobs 2", "largest points", "1000³ voxels", "GB"}},
 	{name: "sweep: --jobs 0", setup: sweepFile(hostileSweep), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out", "--jobs", "0"}, want: []string{"--jobs 0", "≥ 1"}},
 
 	// fit

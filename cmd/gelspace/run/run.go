@@ -70,6 +70,16 @@ func CheckMemory(cfg *configs.Config) error {
 	return nil
 }
 
+// MemoryNeed is the memory a run of an n³ box takes, in bytes.
+func MemoryNeed(n int, diffusivity bool) float64 {
+	per := float64(runBytesPerVoxel)
+	if diffusivity {
+		per += diffBytesPerVoxel
+	}
+	nf := float64(n)
+	return nf * nf * nf * per
+}
+
 // MemoryShortfall returns, when a run of an n³ box would not fit in the
 // memory available, the message saying so ("" when it fits).
 func MemoryShortfall(n int, diffusivity bool) string {
@@ -77,8 +87,7 @@ func MemoryShortfall(n int, diffusivity bool) string {
 	if diffusivity {
 		per += diffBytesPerVoxel
 	}
-	nf := float64(n)
-	need, avail := nf*nf*nf*per, float64(configs.AvailableBytes())
+	need, avail := MemoryNeed(n, diffusivity), float64(configs.AvailableBytes())
 	if need <= avail {
 		return ""
 	}
