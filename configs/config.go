@@ -367,6 +367,9 @@ func (c *Config) Validate() error {
 	if !(c.Output.SampleEveryH >= 0.01 && c.Output.SampleEveryH <= 24) {
 		return r.errAt("output.sample_every_h", "%g h: must be between 0.01 and 24", c.Output.SampleEveryH)
 	}
+	if err := c.checkCounts(); err != nil {
+		return err
+	}
 	if !(c.Output.DiffusivityTol >= 1e-10 && c.Output.DiffusivityTol <= 1e-2) {
 		return r.errAt("output.diffusivity_tol", "%g: must be between 1e-10 and 1e-2", c.Output.DiffusivityTol)
 	}

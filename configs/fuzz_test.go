@@ -167,3 +167,46 @@ func TestFuzzLong(t *testing.T) {
 		fuzzmut.Run(t, 3, scheduleSeeds, n, func(data []byte) { fuzzSchedule(t, data) })
 	})
 }
+
+// TestEveryKineticsKeyRanged: every number of [kinetics] and of
+// [kinetics.phase.<key>] has a finite range in validate.go, so that a new
+// key cannot arrive unchecked (an unbounded rate or a vanishing
+// saturation stops the clock), and a value far outside each range is
+// refused naming the key.
+func TestEveryKineticsKeyRanged(t *testing.T) {
+	ranged := map[string]bool{}
+	for _, q := range kineticsTop {
+		ranged[q.key] = true
+	}
+	phase := map[string]bool{}
+	for _, q := range kineticsPhase {
+		phase[q.key] = true
+	}
+	for _, c := range []struct {
+		t    reflect.Type
+		have map[string]bool
+		pre  string
+	}{{reflect.TypeOf(Kinetics{}), ranged, "kinetics."}, {reflect.TypeOf(PhaseKinetics{}), phase, "kinetics.phase.c3s."}} {
+		for i := 0; i < c.t.NumField(); i++ {
+			f := c.t.Field(i)
+			k := f.Type.Kind()
+			if k == reflect.Pointer {
+				k = f.Type.Elem().Kind()
+			}
+			if k != reflect.Float64 {
+				continue
+			}
+			key := f.Tag.Get("toml")
+			if !c.have[key] {
+				t.Errorf("%s%s has no range in validate.go", c.pre, key)
+				continue
+			}
+			for _, v := range []string{"1e300", "-1e300"} {
+				_, err := Load("", []string{c.pre + key + "=" + v})
+				if err == nil || !strings.Contains(err.Error(), c.pre+key) {
+					t.Errorf("%s%s = %s: %v", c.pre, key, v, err)
+				}
+			}
+		}
+	}
+}

@@ -177,3 +177,25 @@ func kineticsKey(key string) string {
 	}
 	return key
 }
+
+// MaxSamples bounds the rows of samples.csv (curing.until_h over
+// output.sample_every_h) and MaxOutputAges the output ages: every sample
+// is a row kept in memory and every output age a connectivity analysis,
+// so a 100 000 h run sampled every 0.01 h (10⁷ rows, gigabytes) is
+// refused rather than left to fill memory.
+const (
+	MaxSamples    = 200000
+	MaxOutputAges = 10000
+)
+
+// checkCounts refuses sample and output-age counts above the bounds.
+func (c *Config) checkCounts() error {
+	r := c.located()
+	if n := c.Curing.UntilH / c.Output.SampleEveryH; n > MaxSamples {
+		return r.errAt("output.sample_every_h", "%g h to %g h gives %.0f samples: at most %d; give at least %.3g h", c.Output.SampleEveryH, c.Curing.UntilH, n, MaxSamples, c.Curing.UntilH/MaxSamples)
+	}
+	if n := len(c.Output.TimesH); n > MaxOutputAges {
+		return r.errAt("output.times_h", "%d ages: at most %d", n, MaxOutputAges)
+	}
+	return nil
+}

@@ -6,13 +6,16 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"sort"
 	"strings"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/pflag"
 
+	"gelspace/cmd/gelspace/run"
 	"gelspace/cmd/gelspace/sweep"
+	"gelspace/configs"
 )
 
 type sweepOpts struct {
@@ -111,6 +114,11 @@ func runSweepCmd(o *sweepOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) erro
 	}
 	if st, err := os.Stat(o.out); err == nil && !st.IsDir() {
 		return &usageError{fmt.Sprintf("sweep: --out %s exists and is not a folder", o.out)}
+	}
+	if mode != "plan" {
+		if err := sweepMemory(pts, o.jobs); err != nil {
+			return err
+		}
 	}
 	pl := sweep.NewPlan(spec, pts, o.images)
 	if err := sweep.WritePlanForce(o.out, pl, pts, o.force); err != nil {
@@ -230,4 +238,40 @@ func newSweepBar(n int, stderr io.Writer) *progressbar.ProgressBar {
 		progressbar.OptionSetPredictTime(false),
 		progressbar.OptionShowElapsedTimeOnFinish(),
 	)
+}
+
+// sweepMemory refuses, before anything is written, a sweep whose jobs
+// largest points would not fit in the memory available side by side.
+func sweepMemory(pts []sweep.Point, jobs int) error {
+	type need struct {
+		name  string
+		n     int
+		bytes float64
+	}
+	var needs []need
+	for _, p := range pts {
+		raw, err := configs.ParseRaw(p.Name, ".", p.Config)
+		if err != nil {
+			return err
+		}
+		cfg, err := raw.Decode()
+		if err != nil {
+			return err
+		}
+		needs = append(needs, need{p.Name, cfg.Box.Voxels, run.MemoryNeed(cfg.Box.Voxels, cfg.Output.Diffusivity)})
+	}
+	sort.Slice(needs, func(i, j int) bool { return needs[i].bytes > needs[j].bytes })
+	k := min(jobs, len(needs))
+	total := 0.0
+	for _, x := range needs[:k] {
+		total += x.bytes
+	}
+	avail := float64(configs.AvailableBytes())
+	if total <= avail {
+		return nil
+	}
+	if k == 1 {
+		return &usageError{fmt.Sprintf("sweep: point %s (%d³ voxels) needs about %.1f GB and %.1f GB is available: sweep smaller boxes (or set output.diffusivity = false)", needs[0].name, needs[0].n, total/1e9, avail/1e9)}
+	}
+	return &usageError{fmt.Sprintf("sweep: --jobs %d: the %d largest points (%s, %d³ voxels, …) need about %.1f GB side by side and %.1f GB is available: give fewer --jobs or smaller boxes", jobs, k, needs[0].name, needs[0].n, total/1e9, avail/1e9)}
 }

@@ -315,6 +315,8 @@ var hostileCases = []hostileCase{
 	{name: "run: unknown kinetics phase key lists the phase keys", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "kinetics.phase.c3s.velocity=1"}, want: []string{"kinetics.phase.c3s.velocity", "unknown key", "velocity_um_per_h"}},
 	{name: "run: NaN w/c", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "mix.w_c=nan"}, want: []string{"mix.w_c", "finite"}},
 	{name: "run: NaN output age", setup: func(h *hostileEnv) { h.config("times_h = [4, 8, 24]", "times_h = [4, nan, 24]") }, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q"}, want: []string{"cfg.toml:13", "output.times_h", "finite"}},
+	{name: "run: 10^7 samples (until 100000 h every 0.01 h) refused, not allocated", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "curing.until_h=100000", "--set", "output.sample_every_h=0.01"},
+		want: []string{"output.sample_every_h", "10000000 samples", "at most 200000", "0.5 h"}},
 	{name: "run: infinite until_h by --set", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--set", "curing.until_h=inf"}, want: []string{"curing.until_h", "finite"}},
 	{name: "run: --until Inf", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--until", "Inf"}, want: []string{"--until", "> 0 and ≤ 100000"}},
 	{name: "run: --until -1", setup: onlyCfg, args: []string{"run", "{d}/cfg.toml", "--out", "{d}/out", "-q", "--until", "-1"}, want: []string{"--until", "> 0"}},
@@ -450,6 +452,18 @@ var hostileCases = []hostileCase{
 	{name: "sweep: base config /dev/zero", setup: sweepFile("name = \"x\"\nbase = \"/dev/zero\"\n[axes]\n\"mix.w_c\" = [0.4]\n"), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out"}, want: []string{"s.toml", "base", "not a regular file"}},
 	{name: "sweep: unknown axis key", setup: sweepFile(sweepHead + "[axes]\n\"mix.wc\" = [0.4, 0.5]\n"), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out"}, want: []string{"mix.wc", "unknown key"}},
 	{name: "sweep: --out is a file", setup: func(h *hostileEnv) { sweepFile(hostileSweep)(h); h.write("file", "x") }, args: []string{"sweep", "{d}/s.toml", "--out", "{d}/file"}, want: []string{"--out", "not a folder"}},
+	{name: "sweep: collect a folder whose plan is /dev/zero", setup: func(h *hostileEnv) {
+		os.MkdirAll(filepath.Join(h.d, "x"), 0o755)
+		os.Symlink("/dev/zero", filepath.Join(h.d, "x", "sweep.json"))
+	}, args: []string{"sweep", "collect", "{d}/x"}, want: []string{"sweep.json", "not a regular file", "sweep folder"}},
+	{name: "sweep: collect with a point's summary replaced by /dev/zero", setup: func(h *hostileEnv) {
+		h.copy("sweep")
+		p := filepath.Join(h.d, "sweep", "points", "p0000_r0", "summary.json")
+		os.Remove(p)
+		os.Symlink("/dev/zero", p)
+	}, args: []string{"sweep", "collect", "{d}/sweep"}, want: []string{"p0000_r0", "summary.json", "not a regular file"}},
+	{name: "sweep: plan --out is a file", setup: func(h *hostileEnv) { sweepFile(hostileSweep)(h); h.write("file", "x") }, args: []string{"sweep", "plan", "{d}/s.toml", "--out", "{d}/file"}, want: []string{"--out", "not a folder"}},
+	{name: "sweep: boxes too large for memory side by side", setup: sweepFile(sweepHead + "[axes]\n\"box.voxels\" = [900, 1000]\n"), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out", "--jobs", "2"}, want: []string{"--jobs 2", "largest points", "1000³ voxels", "GB"}},
 	{name: "sweep: --jobs 0", setup: sweepFile(hostileSweep), args: []string{"sweep", "{d}/s.toml", "--out", "{d}/out", "--jobs", "0"}, want: []string{"--jobs 0", "≥ 1"}},
 
 	// fit
@@ -463,6 +477,7 @@ var hostileCases = []hostileCase{
 	{name: "fit: binary curve", setup: func(h *hostileEnv) { h.binary("m.csv", 2000) }, args: []string{"fit", "{d}/m.csv", "--out", "{d}/out"}, want: []string{"m.csv", "not a text file"}},
 	{name: "fit: too few rows", setup: fitCurve("time_h,heat_j_per_g\n1,1\n2,3\n"), args: []string{"fit", "{d}/m.csv", "--out", "{d}/out"}, want: []string{"m.csv", "2 rows", "at least 5"}},
 	{name: "fit: --size 2000", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--size", "2000"}, want: []string{"fit: --size 2000", "between 10 and 1000"}},
+	{name: "fit: --size 1000 with 16 seeds quotes the fit's memory", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--size", "1000", "--seeds", "16"}, want: []string{"--size 1000", "--seeds 16", "16 boxes of 1000³ voxels need about", "GB"}},
 	{name: "fit: --seeds 0", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--seeds", "0"}, want: []string{"--seeds 0", "between 1 and 16"}},
 	{name: "fit: --fix of an unknown multiplier", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--fix", "speed=2"}, want: []string{"--fix", "dissolution_scale"}},
 	{name: "fit: --fix NaN", setup: func(h *hostileEnv) { h.copy("heat.csv") }, args: []string{"fit", "{d}/heat.csv", "--out", "{d}/out", "--fix", "nucleation_scale=nan"}, want: []string{"--fix", "> 0 and ≤ 1000"}},

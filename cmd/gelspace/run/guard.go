@@ -24,10 +24,17 @@ var ErrSpinning = fmt.Errorf("run: the event loop is spinning")
 // perVoxelS (MaxEventsPerVoxelS in runs). A clock that goes back (a clone replaying from a
 // saved state) restarts the window.
 func guardEngine(e *voxel.Engine, perVoxelS float64) {
-	limit := perVoxelS * float64(e.Grid().Len())
+	e.SetGuard(newGuard(perVoxelS, e.Grid().Len()))
+}
+
+// newGuard returns the guard of a box of nvox voxels allowed perVoxelS
+// events per simulated second per voxel: it is called with the events
+// fired and the simulated time (s) so far.
+func newGuard(perVoxelS float64, nvox int) func(ev uint64, t float64) error {
+	limit := perVoxelS * float64(nvox)
 	var lastEv uint64
 	lastT, started := 0.0, false
-	e.SetGuard(func(ev uint64, t float64) error {
+	return func(ev uint64, t float64) error {
 		if !started || t < lastT || ev < lastEv {
 			lastEv, lastT, started = ev, t, true
 			return nil
@@ -36,11 +43,11 @@ func guardEngine(e *voxel.Engine, perVoxelS float64) {
 		if dEv > limit*dT {
 			rate := "with the clock standing still"
 			if dT > 0 {
-				rate = fmt.Sprintf("at %.3g events per simulated second per voxel", dEv/dT/float64(e.Grid().Len()))
+				rate = fmt.Sprintf("at %.3g events per simulated second per voxel", dEv/dT/float64(nvox))
 			}
 			return fmt.Errorf("%w at %.6g h: %.0f events %s (at most %g): a rate constant in [kinetics] is too large or a saturation too small for the clock to advance", ErrSpinning, t/3600, dEv, rate, perVoxelS)
 		}
 		lastEv, lastT = ev, t
 		return nil
-	})
+	}
 }

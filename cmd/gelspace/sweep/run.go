@@ -3,6 +3,7 @@ package sweep
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -141,7 +142,7 @@ func WritePlanForce(dir string, pl *Plan, pts []Point, force bool) error {
 			return err
 		}
 		path := filepath.Join(pd, PointConfigFile)
-		if old, err := os.ReadFile(path); err == nil && bytes.Equal(old, p.Config) {
+		if old, err := readSmall(path); err == nil && bytes.Equal(old, p.Config) {
 			continue
 		}
 		os.Remove(filepath.Join(pd, MarkerFile))
@@ -161,12 +162,25 @@ func axisKeys(pl *Plan) string {
 	return strings.Join(k, ", ")
 }
 
+// readSmall reads a file of a sweep folder (the plan, a point's
+// config.toml, done.json, summary.json or run.json): only a regular text
+// file of at most 256 MiB, so that a device or a runaway file put in
+// their place is refused rather than read without end.
+func readSmall(path string) ([]byte, error) {
+	return configs.ReadLimited(path, "sweep file", 256<<20)
+}
+
 // ReadPlan reads the plan (sweep.json) of the sweep folder dir.
 func ReadPlan(dir string) (*Plan, error) {
 	path := filepath.Join(dir, PlanFile)
-	data, err := os.ReadFile(path)
+	data, err := readSmall(path)
 	if err != nil {
-		return nil, &configs.InputError{File: path, Msg: "cannot read the sweep plan: is this a gelspace sweep folder (made by gelspace sweep or sweep plan)?"}
+		why := ""
+		var ie *configs.InputError
+		if errors.As(err, &ie) && !strings.HasSuffix(ie.Msg, "no such file") {
+			why = " (" + strings.TrimPrefix(ie.Msg, "cannot read sweep file: ") + ")"
+		}
+		return nil, &configs.InputError{File: path, Msg: "cannot read the sweep plan" + why + ": is this a gelspace sweep folder (made by gelspace sweep or sweep plan)?"}
 	}
 	var pl Plan
 	if err := json.Unmarshal(data, &pl); err != nil {
@@ -178,11 +192,11 @@ func ReadPlan(dir string) (*Plan, error) {
 // pointComplete reports whether the point folder's marker matches its
 // config.toml.
 func pointComplete(pd string) bool {
-	cfg, err := os.ReadFile(filepath.Join(pd, PointConfigFile))
+	cfg, err := readSmall(filepath.Join(pd, PointConfigFile))
 	if err != nil {
 		return false
 	}
-	data, err := os.ReadFile(filepath.Join(pd, MarkerFile))
+	data, err := readSmall(filepath.Join(pd, MarkerFile))
 	if err != nil {
 		return false
 	}
@@ -195,7 +209,7 @@ func pointComplete(pd string) bool {
 
 // writeMarker writes done.json, the last file of a complete point.
 func writeMarker(pd string, wallS float64) error {
-	cfg, err := os.ReadFile(filepath.Join(pd, PointConfigFile))
+	cfg, err := readSmall(filepath.Join(pd, PointConfigFile))
 	if err != nil {
 		return err
 	}

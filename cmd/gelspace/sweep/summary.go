@@ -146,7 +146,7 @@ func Collect(dir string, pl *Plan) ([]Row, error) {
 		}
 		switch {
 		case complete:
-			data, err := os.ReadFile(filepath.Join(pd, "summary.json"))
+			data, err := readSmall(filepath.Join(pd, "summary.json"))
 			if err != nil {
 				return nil, err
 			}
@@ -183,7 +183,7 @@ func finishedByRun(pd string) bool {
 	if fileExists(filepath.Join(pd, run.CheckpointFile)) {
 		return false
 	}
-	data, err := os.ReadFile(filepath.Join(pd, run.ManifestFile))
+	data, err := readSmall(filepath.Join(pd, run.ManifestFile))
 	if err != nil {
 		return false
 	}
