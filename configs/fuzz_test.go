@@ -11,7 +11,7 @@ import (
 	"strings"
 	"testing"
 
-	"gelspace/internal/fuzzmut"
+	"gelspace/configs/fuzzmut"
 )
 
 // Fuzz targets of the config parsers: the whole load (TOML, --set-free

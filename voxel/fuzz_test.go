@@ -13,7 +13,7 @@ import (
 	"strings"
 	"testing"
 
-	"gelspace/internal/fuzzmut"
+	"gelspace/configs/fuzzmut"
 	"gelspace/kinetics"
 )
 

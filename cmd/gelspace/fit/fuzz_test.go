@@ -9,7 +9,7 @@ import (
 	"testing"
 
 	"gelspace/configs"
-	"gelspace/internal/fuzzmut"
+	"gelspace/configs/fuzzmut"
 )
 
 // FuzzMeasured fuzzes the reader of measured calorimetry curves. `go

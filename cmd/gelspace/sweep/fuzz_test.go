@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"gelspace/configs"
-	"gelspace/internal/fuzzmut"
+	"gelspace/configs/fuzzmut"
 )
 
 // FuzzSweepFile fuzzes the sweep-file parser and, for sweeps of a few
