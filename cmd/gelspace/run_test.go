@@ -63,7 +63,7 @@ func TestRunOutputs(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := "time_h,temperature_c,alpha,alpha_c3s,alpha_c2s,alpha_c3a,alpha_c4af,alpha_silica_fume,alpha_fly_ash,alpha_slag,alpha_metakaolin,heat_j_per_g,heat_flow_mw_per_g,chem_shrinkage_ml_per_g,water_consumed_g_per_g,nonevaporable_water_g_per_g,capillary_porosity,water_filled_porosity,solids_connected_fraction,solids_span_axes,pores_connected_fraction,pores_span_axes,rel_diffusivity,formation_factor,equivalent_age_h,gel_space_ratio,gel_porosity,total_porosity,ch_g_per_100g,bound_water_g_per_100g,aft_g_per_100g,afm_g_per_100g,csh_g_per_100g,vol_water"
+	want := "time_h,temperature_c,alpha,alpha_c3s,alpha_c2s,alpha_c3a,alpha_c4af,alpha_silica_fume,alpha_fly_ash,alpha_slag,alpha_metakaolin,heat_j_per_g,heat_flow_mw_per_g,chem_shrinkage_ml_per_g,water_consumed_g_per_g,nonevaporable_water_g_per_g,capillary_porosity,water_filled_porosity,solids_connected_fraction,solids_span_axes,pores_connected_fraction,pores_span_axes,rel_diffusivity,rel_diffusivity_capillary,formation_factor,equivalent_age_h,gel_space_ratio,gel_porosity,total_porosity,ch_g_per_100g,bound_water_g_per_100g,aft_g_per_100g,afm_g_per_100g,csh_g_per_100g,vol_water"
 	if got := strings.Join(s.Columns, ","); !strings.HasPrefix(got, want) {
 		t.Errorf("series.csv columns\n%s\nwant prefix\n%s", got, want)
 	}
