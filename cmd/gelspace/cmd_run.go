@@ -36,6 +36,7 @@ func runCommand() *command {
   gelspace run configs/rw-g-sealed-low-wc.toml --out sealed
   gelspace run my.toml --set mix.w_c=0.40 --set curing.temperature_c=35 --until 168
   gelspace run my.toml --from packed/ --out hyd      # hydrate a saved pack
+  gelspace run configs/rw-g-blends.toml --out blend   # a blended binder: [[scm]] and mix.w_b
   gelspace run big.toml --checkpoint-every 24h --out big   # or 10m (wall-clock minutes)
   gelspace run --resume big                            # continue a stopped run
 `,

@@ -132,7 +132,8 @@ func newFlagSet(c *command) *pflag.FlagSet {
 
 func topUsage(w io.Writer) {
 	fmt.Fprintf(w, `gelspace %s — hydration of Portland-cement paste in a 3D voxel box: set point,
-capillary-pore depercolation, heat, phases and diffusivity from a cement and a w/c.
+capillary-pore depercolation, heat, phases and diffusivity from a cement (plain or
+blended with silica fume, fly ash, slag or metakaolin) and a w/c or w/b.
 
 Usage:
   gelspace <command> [arguments] [flags]
