@@ -619,7 +619,7 @@ func (s *Solver) sweepPass() {
 	if s.mgFirst {
 		clear(s.z)
 	}
-	s.sweep(s.z, s.r, s.mgColour, false, s.mgReverse, 0, s.box.NZ, s.rows[0][0], s.rows[0][1])
+	s.sweep(s.z, s.r, s.mgColour, false, s.mgReverse, 0, s.box.NZ)
 }
 
 // sweep does a half sweep of Gauss–Seidel on A x = f over the voxels of
@@ -636,7 +636,7 @@ func (s *Solver) sweepPass() {
 // the order does not matter; otherwise the only neighbours of one colour
 // within a row are x = 0 and x = NX−1 across an odd periodic edge, and the
 // one of them that comes later in the sweep is updated after the others.
-func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int, sum, dg []float64) {
+func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int) {
 	nx, ny := s.box.NX, s.box.NY
 	wrapX := nx > 1 && nx%2 == 1 && s.box.Periodic[0]
 	for zz := z0; zz < z1; zz++ {
@@ -670,25 +670,22 @@ func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int, s
 			if wrapX && x0 == 0 {
 				if reverse {
 					late, lo, hi = 0, 2, nx-1
-					s.gather(x, y, z, nx-1, nx, sum, dg)
-					fx += s.gsUpdate(xr, fr, mr, sum, nx-1, nx, 1)
+					fx += s.gsEnd(x, f, y, z, nx-1)
 				} else {
 					late, hi = nx-1, nx-1
 				}
 			}
-			// The ends of the row go through gather (their x neighbours
+			// The ends of the row go through gsValue32 (their x neighbours
 			// wrap or are cut), the interior through sweepRow.
 			if lo < hi {
 				ilo, ihi := lo, hi
 				lastEl := lo + 2*((hi-1-lo)/2)
 				if lo == 0 {
-					s.gather(x, y, z, 0, nx, sum, dg)
-					fx += s.gsUpdate(xr, fr, mr, sum, 0, 1, 1)
+					fx += s.gsEnd(x, f, y, z, 0)
 					ilo = 2
 				}
 				if lastEl == nx-1 && lastEl != 0 {
-					s.gather(x, y, z, lastEl, nx, sum, dg)
-					fx += s.gsUpdate(xr, fr, mr, sum, lastEl, lastEl+1, 1)
+					fx += s.gsEnd(x, f, y, z, lastEl)
 					ihi = lastEl
 				}
 				if ilo < ihi {
@@ -696,8 +693,7 @@ func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int, s
 				}
 			}
 			if late >= 0 {
-				s.gather(x, y, z, late, nx, sum, dg)
-				fx += s.gsUpdate(xr, fr, mr, sum, late, late+1, 1)
+				fx += s.gsEnd(x, f, y, z, late)
 			}
 		}
 		s.part[z][0] += fx
@@ -706,8 +702,8 @@ func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int, s
 
 // sweepRow is the Gauss–Seidel update x_i = (f_i + Σ_j g_ij x_j)·m_i of
 // the voxels lo, lo+2, … < hi of row (y, z) with 0 < lo and hi < NX (no
-// wrap along x) and m_i ≠ 0, each from the values before the call, as
-// gather followed by gsUpdate computes it; it returns Σ f_i x_i.
+// wrap along x) and m_i ≠ 0, each from the values before the call, in
+// single precision as gsValue32 computes it; it returns Σ f_i x_i.
 func (s *Solver) sweepRow(x, fr, mr []float32, y, z, lo, hi int) float64 {
 	nx := s.box.NX
 	if lo == 0 {
@@ -724,32 +720,28 @@ func (s *Solver) sweepRow(x, fr, mr []float32, y, z, lo, hi int) float64 {
 		if m == 0 {
 			continue
 		}
-		ci := int(cr[i]) << 8
-		gxp, gxm := float64(g[uint16(ci|int(cr[i+1]))]), float64(g[uint16(ci|int(cr[i-1]))])
-		gyp, gym := float64(g[uint16(ci|int(cyp[i]))]), float64(g[uint16(ci|int(cym[i]))])
-		gzp, gzm := float64(g[uint16(ci|int(czp[i]))]), float64(g[uint16(ci|int(czm[i]))])
-		sum := (gxp*float64(vr[i+1]) + gxm*float64(vr[i-1])) +
-			(gyp*float64(vyp[i]) + gym*float64(vym[i])) +
-			(gzp*float64(vzp[i]) + gzm*float64(vzm[i]))
-		v := float32((float64(fr[i]) + sum) * float64(m))
+		ci := uint16(cr[i]) << 8
+		sum := (g[ci|uint16(cr[i+1])]*vr[i+1] + g[ci|uint16(cr[i-1])]*vr[i-1]) +
+			(g[ci|uint16(cyp[i])]*vyp[i] + g[ci|uint16(cym[i])]*vym[i]) +
+			(g[ci|uint16(czp[i])]*vzp[i] + g[ci|uint16(czm[i])]*vzm[i])
+		f := fr[i]
+		v := (f + sum) * m
 		vr[i] = v
-		fx += float64(fr[i]) * float64(v)
+		fx += float64(f) * float64(v)
 	}
 	return fx
 }
 
-// gsUpdate sets x_i = (f_i + sum_i)·m_i for i = lo, lo+step, … < hi where
-// m_i ≠ 0 and returns Σ f_i x_i.
-func (s *Solver) gsUpdate(xr, fr, mr []float32, sum []float64, lo, hi, step int) float64 {
-	var fx float64
-	for i := lo; i < hi; i += step {
-		if m := mr[i]; m != 0 {
-			v := float32((float64(fr[i]) + sum[i]) * float64(m))
-			xr[i] = v
-			fx += float64(fr[i]) * float64(v)
-		}
+// gsEnd sets x_i to its Gauss–Seidel value (gsValue32) for voxel x of row
+// (y, z) when m_i ≠ 0 and returns f_i x_i.
+func (s *Solver) gsEnd(xv, f []float32, y, z, x int) float64 {
+	i := s.box.NX*(y+s.box.NY*z) + x
+	if s.invd[i] == 0 {
+		return 0
 	}
-	return fx
+	v := s.gsValue32(xv, f, y, z, x)
+	xv[i] = v
+	return float64(f[i]) * float64(v)
 }
 
 // restrictResidual adds the residual f − A x of each active voxel of the
@@ -758,7 +750,7 @@ func (s *Solver) gsUpdate(xr, fr, mr []float32, sum []float64, lo, hi, step int)
 // vanishes on the other colour). The voxels of one aggregate lie in one
 // 2×2×2 block, so ranges of planes that start at even planes write
 // disjoint entries of cf, each in the same order whatever the ranges.
-func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, sum, dg []float64) {
+func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, q []float32) {
 	nx, ny := s.box.NX, s.box.NY
 	for z := z0; z < z1; z++ {
 		for y := range ny {
@@ -767,11 +759,12 @@ func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, s
 			if c >= 0 {
 				x0, step = (c+y+z)&1, 2
 			}
-			s.gather(x, y, z, x0, step, sum, dg)
-			xr, fr, ar := x[row:row+nx], f[row : row+nx][:nx], s.agg[row : row+nx][:nx]
+			s.applyRow(x, q, y, z, x0, step)
+			fr, ar := f[row : row+nx][:nx], s.agg[row : row+nx][:nx]
+			q = q[:nx]
 			for i := x0; i < nx; i += step {
 				if I := ar[i]; I >= 0 {
-					cf[I] += float64(fr[i]) - dg[i]*float64(xr[i]) + sum[i]
+					cf[I] += float64(fr[i] - q[i])
 				}
 			}
 		}
@@ -779,12 +772,12 @@ func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, s
 }
 
 // mgPass runs the fine-level multigrid pass op on the planes [z0, z1).
-func (s *Solver) mgPass(op, z0, z1 int, sum, dg []float64) {
+func (s *Solver) mgPass(op, k, z0, z1 int) {
 	switch op {
 	case passMGSweep:
-		s.sweep(s.z, s.r, s.mgColour, s.mgFirst, false, z0, z1, sum, dg)
+		s.sweep(s.z, s.r, s.mgColour, s.mgFirst, false, z0, z1)
 	case passMGResidual:
-		s.restrictResidual(s.z, s.r, s.mg[0].f, s.resColour, z0, z1, sum, dg)
+		s.restrictResidual(s.z, s.r, s.mg[0].f, s.resColour, z0, z1, s.rows32[k])
 	case passMGProlong: // z += P (coarse x), on red only when the black half sweep that follows overwrites black
 		cx := s.mg[0].x
 		nx, ny := s.box.NX, s.box.NY
