@@ -54,6 +54,18 @@ const (
 	mgCoarsestLen  = 512
 )
 
+// Strength of connection: a bond is strong when its conductance is at
+// least this share of the largest bond of either of its ends (fine level:
+// voxels; coarse levels: aggregates). Aggregates hold only strongly bonded
+// nodes, so that the coarse levels can represent pore regions joined to
+// each other only through C-S-H (1/400 of the pores' diffusivity) with a
+// value each; with aggregates that ignored strength, a conjugate-gradient
+// iteration took 1.5 times as many steps on a 28-day paste.
+const (
+	mgStrongFine   = 0.25
+	mgStrongCoarse = 0.05
+)
+
 // gLevel is a coarse level: a conductance network on the aggregates of the
 // level below, stored as compressed rows of its off-diagonal conductances.
 //
@@ -86,6 +98,8 @@ type mgScratch struct {
 	rcol     []int32
 	rval     []float32
 	cnt, pos []int32
+	rmax     []float32 // largest entry of each row, and
+	strong   []bool    // whether the row has a strong entry, while aggregating
 }
 
 // forward and backward are Gauss–Seidel sweeps on A x = f in node order
@@ -242,20 +256,39 @@ func (c *gLevel) merge() {
 	c.val = append(c.val[:0], rval[:out]...)
 }
 
-// aggregate groups the nodes of c into the connected components (by
-// entries with conductance > 0) of each 2×2×2 block of its block grid,
-// numbered in node order, sets c.agg and the block grid of next, and
-// returns the number of aggregates.
+// aggregate groups the nodes of c into the connected components, by
+// strong entries, of each 2×2×2 block of its block grid, numbered in node
+// order, sets c.agg and the block grid of next, and returns the number of
+// aggregates. An entry g_IJ is strong when g_IJ ≥ θ·max(m_I, m_J), m being
+// each row's largest entry and θ mgStrongCoarse. A node with no strong
+// entry at all is bonded only weakly to every neighbour, and its value is
+// set by them: it is left out of the next level (agg −1) and corrected by
+// the smoothing alone.
 func (c *gLevel) aggregate(next *gLevel, u uf) int {
 	u = u[:c.n]
 	for i := range u {
 		u[i] = int32(i)
 	}
+	sc := c.sc
+	rmax := grow(sc.rmax, c.n)
+	strong := grow(sc.strong, c.n)
+	sc.rmax, sc.strong = rmax, strong
+	for I := range c.n {
+		var m float32
+		for _, v := range c.val[c.ptr[I]:c.ptr[I+1]] {
+			m = max(m, v)
+		}
+		rmax[I], strong[I] = m, false
+	}
 	for I := range c.n {
 		bi := c.blk[3*I : 3*I+3]
 		for k := c.ptr[I]; k < c.ptr[I+1]; k++ {
-			J := c.col[k]
-			if int(J) <= I || c.val[k] == 0 {
+			J, g := c.col[k], c.val[k]
+			if g == 0 || g < mgStrongCoarse*max(rmax[I], rmax[J]) {
+				continue
+			}
+			strong[I] = true
+			if int(J) <= I {
 				continue
 			}
 			bj := c.blk[3*J : 3*J+3]
@@ -270,6 +303,10 @@ func (c *gLevel) aggregate(next *gLevel, u uf) int {
 	na := 0
 	for I := range c.n {
 		r := u.find(int32(I))
+		if int(r) == I && !strong[I] {
+			c.agg[I] = -1 // alone, and no strong entry: left out
+			continue
+		}
 		if int(r) == I {
 			c.agg[I] = int32(na)
 			na++
@@ -285,7 +322,7 @@ func (c *gLevel) aggregate(next *gLevel, u uf) int {
 func (c *gLevel) visitEdges(next *gLevel, pass int) {
 	for I := range c.n {
 		for k := c.ptr[I]; k < c.ptr[I+1]; k++ {
-			if J := c.col[k]; int(J) > I {
+			if J := c.col[k]; int(J) > I && c.agg[I] >= 0 && c.agg[J] >= 0 {
 				next.emit(pass, c.agg[I], c.agg[J], c.val[k])
 			}
 		}
@@ -294,6 +331,9 @@ func (c *gLevel) visitEdges(next *gLevel, pass int) {
 
 func (c *gLevel) visitDiag(next *gLevel) {
 	for i := range c.n {
+		if c.agg[i] < 0 {
+			continue
+		}
 		next.diag[c.agg[i]] += c.diag[i]
 	}
 }
@@ -310,14 +350,16 @@ func (c *gLevel) restrict(next *gLevel) {
 		for k := c.ptr[i]; k < c.ptr[i+1]; k++ {
 			v += float64(c.val[k]) * c.x[c.col[k]]
 		}
-		cf[c.agg[i]] += v
+		if c.agg[i] >= 0 {
+			cf[c.agg[i]] += v
+		}
 	}
 }
 
 // prolong adds x += P (next.x).
 func (c *gLevel) prolong(next *gLevel) {
 	for i := range c.n {
-		if c.invd[i] != 0 {
+		if c.invd[i] != 0 && c.agg[i] >= 0 {
 			c.x[i] += next.x[c.agg[i]]
 		}
 	}
@@ -395,7 +437,7 @@ func (s *Solver) fineAggregates(c *gLevel) int {
 					st = st[:len(st)-1]
 					jx, jy, jz := j%nx, (j/nx)%ny, j/plane
 					try := func(ok bool, k int) {
-						if ok && s.agg[k] == -2 {
+						if ok && s.agg[k] == -2 && s.strongBond(j, k) {
 							s.agg[k] = na
 							st = append(st, int32(k))
 						}
@@ -413,6 +455,36 @@ func (s *Solver) fineAggregates(c *gLevel) int {
 		}
 	}
 	return int(na)
+}
+
+// strongBond reports whether the bond between face neighbours i and j of
+// the fine level (in one 2×2×2 block, so not across a face of the box) is
+// strong: g_ij ≥ θ·max(m_i, m_j), m being each voxel's largest bond
+// conductance and θ mgStrongFine. A pore voxel and a C-S-H voxel beside it
+// are bonded weakly (1/200 against the pore's bonds of 1), so that a block
+// where two pore channels meet only through C-S-H keeps them apart.
+func (s *Solver) strongBond(i, j int) bool {
+	g := s.gt[int(s.cls[i])<<8|int(s.cls[j])]
+	return g >= mgStrongFine*max(s.maxBond(i), s.maxBond(j))
+}
+
+// maxBond returns the largest conductance of the bonds of voxel i.
+func (s *Solver) maxBond(i int) float32 {
+	x, y, z := s.box.Coords(i)
+	cr, cym, cyp, czm, czp, row, _, _, _, _ := s.rowClasses(y, z)
+	nx := s.box.NX
+	cxp, cxm := s.cls[row+(x+1)%nx], s.cls[row+(x+nx-1)%nx]
+	if !s.box.Periodic[0] || nx == 1 {
+		if x == nx-1 {
+			cxp = sentinel
+		}
+		if x == 0 {
+			cxm = sentinel
+		}
+	}
+	ci := int(cr[x]) << 8
+	t := s.gt
+	return max(t[ci|int(cxp)], t[ci|int(cxm)], t[ci|int(cyp[x])], t[ci|int(cym[x])], t[ci|int(czp[x])], t[ci|int(czm[x])])
 }
 
 // assembleFine builds coarse level c, of nc aggregates, from the fine
@@ -561,7 +633,7 @@ func (s *Solver) mgBuild() {
 		s.cuf = growI32(s.cuf, c.n)
 		nn := c.aggregate(next, uf(s.cuf))
 		sc.blk[k&1] = next.blk
-		if nn == c.n {
+		if nn == c.n || nn == 0 {
 			s.mg = s.mg[:k]
 			return
 		}
