@@ -110,8 +110,10 @@ const MaxFieldValues = 254
 // z, which also holds A p) and the float32 inverse diagonal, the axes
 // spanned by each voxel's conducting cluster (a byte) and the labelling of
 // the conducting clusters (an int32, which then holds the aggregate of
-// each voxel, and a bool), 26 bytes, plus the coarse levels (about an
-// eighth of the active voxels each). Conductances are not stored: each
+// each voxel, and a bool), 26 bytes, plus the coarse levels (the first
+// about a third of the active voxels on a hydrated paste, where strength
+// of connection splits pore from C-S-H; each further one a third to a half
+// of the one above). Conductances are not stored: each
 // bond's is looked up from the classes (phase ids) of its two voxels.
 type Solver struct {
 	// Labeler, when not nil, labels the conducting clusters in place of
@@ -136,15 +138,16 @@ type Solver struct {
 	invd       []float32    // 1/A_ii on the active set, 0 elsewhere: the smoother's diagonal
 	part       [][3]float64 // per z plane partial sums, added in plane order
 	rows       [][2][]float64
-	act        []uint8  // per voxel: bit a set when its cluster spans axis a
-	agg        []int32  // aggregate on coarse level 0 of each voxel, −1 off the active set (the labelling's storage)
-	mg         []gLevel // multigrid coarse levels
-	stack      []int32  // aggregation scratch
-	cuf        []int32  // union–find scratch of the coarse levels
-	hierOK     bool     // the levels in mg were built in this solve
-	hierElec   int      // electrode axis of the levels in mg
-	hierAct    []bool   // per cluster: active in the levels in mg
-	jacobiOnly bool     // tests: Jacobi preconditioner alone
+	rows32     [][]float32 // per worker, a row of single-precision scratch
+	act        []uint8     // per voxel: bit a set when its cluster spans axis a
+	agg        []int32     // aggregate on coarse level 0 of each voxel, −1 off the active set (the labelling's storage)
+	mg         []gLevel    // multigrid coarse levels
+	stack      []int32     // aggregation scratch
+	cuf        []int32     // union–find scratch of the coarse levels
+	hierOK     bool        // the levels in mg were built in this solve
+	hierElec   int         // electrode axis of the levels in mg
+	hierAct    []bool      // per cluster: active in the levels in mg
+	jacobiOnly bool        // tests: Jacobi preconditioner alone
 
 	// set per pass
 	op          int
@@ -320,10 +323,14 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 	if len(s.rows) < s.workers {
 		s.rows = make([][2][]float64, s.workers)
 	}
+	if len(s.rows32) < s.workers {
+		s.rows32 = make([][]float32, s.workers)
+	}
 	for k := range s.rows {
 		for j := range 2 {
 			s.rows[k][j] = grow(s.rows[k][j], box.NX)
 		}
+		s.rows32[k] = grow(s.rows32[k], box.NX)
 	}
 
 	var res Diffusion
@@ -413,7 +420,7 @@ func (s *Solver) pass(k, z0, z1 int) {
 	case passSetup:
 		s.setup(z0, z1, sum, dg)
 	case passMatvec:
-		s.matvec(z0, z1, sum, dg)
+		s.matvec(z0, z1)
 	case passUpdate:
 		s.update(z0, z1)
 	case passDirection:
@@ -423,7 +430,7 @@ func (s *Solver) pass(k, z0, z1 int) {
 	case passJacobi:
 		s.jacobi(z0, z1)
 	default:
-		s.mgPass(s.op, z0, z1, sum, dg)
+		s.mgPass(s.op, k, z0, z1)
 	}
 }
 
@@ -752,22 +759,22 @@ func (s *Solver) source(x, y, z int) (gp, b float64, ok bool) {
 	return gp, b, true
 }
 
-// matvec computes q = A p on the planes [z0, z1), with part = (p·q, 0, 0):
+// matvec computes q = A p on the planes [z0, z1) in single precision
+// (applyRow), with part = (p·q, 0, 0) in double precision:
 //
-//	(A p)_i = A_ii p_i − Σ_j g_ij p_j.
-func (s *Solver) matvec(z0, z1 int, sum, dg []float64) {
+//	(A p)_i = Σ_j g_ij (p_i − p_j) + ge_i p_i.
+func (s *Solver) matvec(z0, z1 int) {
 	nx, ny := s.box.NX, s.box.NY
 	p, q := s.mvIn, s.mvOut
 	for z := z0; z < z1; z++ {
 		var pq float64
 		for y := range ny {
-			s.gather(p, y, z, 0, 1, sum, dg)
 			row := nx * (y + ny*z)
 			pr, qr := p[row:row+nx], q[row:row+nx]
+			s.applyRow(p, qr, y, z, 0, 1)
+			qr = qr[:len(pr)]
 			for i, pi := range pr {
-				v := dg[i]*float64(pi) - sum[i]
-				qr[i] = float32(v)
-				pq += float64(pi) * v
+				pq += float64(pi) * float64(qr[i])
 			}
 		}
 		s.part[z] = [3]float64{pq, 0, 0}

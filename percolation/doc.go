@@ -90,14 +90,16 @@
 //
 // The linear system is solved by preconditioned conjugate gradients from
 // w = 0, the preconditioner being one symmetric V-cycle of aggregation
-// multigrid, with aggregates that are the connected pieces of 2×2×2
-// blocks, Galerkin coarse operators and red–black Gauss–Seidel smoothing
+// multigrid, with aggregates that are the pieces of 2×2×2 blocks
+// connected by strong bonds, Galerkin coarse operators and red–black
+// Gauss–Seidel smoothing
 // (see mg.go; a box of at most 512 voxels uses the Jacobi diagonal alone),
 // until the relative residual ‖b − Aw‖₂/‖b‖₂ falls below
 // DiffusivityOptions.Tol (default 1e-6; tolerances below FloorTol, 1e-7,
 // are raised to it) or the iteration cap is hit (an error, with the
-// estimate reached). On the 28-day 100³ paste of testdata this takes 86–88
-// iterations per axis to 1e-6 and 63–65 to 1e-5. D/D0 is then evaluated
+// estimate reached). On the 28-day 100³ paste of testdata this takes 52–53
+// iterations per axis to 1e-6 and 42–43 to 1e-5 (86–88 and 63–65 with
+// aggregates that ignored strength). D/D0 is then evaluated
 // from the final w as E(w) = c0 − 2bᵀw + wᵀAw (c0 the dissipation at
 // w = 0), the exact dissipation of the stored iterate, which exceeds the
 // true one only to second order in the error of w. The three axes of a
@@ -121,10 +123,12 @@
 // (the diagonals, block coordinates and unmerged entries of the build are
 // dropped once the levels stand, and the vectors are allocated after
 // them). On the 100³ paste of testdata, 64 % of the voxels active, the
-// first level has 0.2 aggregates per active voxel and the solver holds
-// 38 bytes per voxel of the box in all (BenchmarkDiffusivityHydrated100).
-// Sums and every arithmetic step are in double precision; the
-// single-precision storage changes D/D0 by less than 1e-8 relative on the
-// test pastes and 3e-10 on the 100³ paste (TestDiffusivityFloat64,
-// TestDiffusivityHydrated).
+// first level has 0.32 aggregates per active voxel and the solver holds
+// 51 bytes per voxel of the box in all (BenchmarkDiffusivityHydrated100).
+// The stencils of the iteration (the product A p, the fine smoothing and
+// residual) are summed in single precision, every sum over voxels, the
+// coarse levels, the setup and the dissipation in double precision; the
+// single-precision vectors and stencils change D/D0 by less than 1e-8
+// relative on the test pastes and 2e-10 on the 100³ paste solved to 1e-6
+// (TestDiffusivityFloat64, TestDiffusivityHydrated).
 package percolation

@@ -482,10 +482,12 @@ func (e *Engine) walk(pos int32, rule *stickRule, q kinetics.ID, steps int) (int
 	nx, ny, nz := g.NX, g.NY, g.NZ
 	plane := nx * ny
 	x, y, z := g.Coords(int(pos))
+	c := [3]int{x, y, z} // coordinates, moved by table rather than a switch on the direction
 	var bits uint64
 	nbits := 0
 	var nb [6]int
 	for s := 0; ; s++ {
+		x, y, z := c[0], c[1], c[2]
 		i := x + nx*y + plane*z
 		row, pl := nx*y, plane*z
 		xm, xp := x-1, x+1
@@ -536,20 +538,8 @@ func (e *Engine) walk(pos int32, rule *stickRule, q kinetics.ID, steps int) (int
 		if ph[nb[dir]] != kinetics.Water {
 			continue
 		}
-		switch dir {
-		case 0:
-			x = xm
-		case 1:
-			x = xp
-		case 2:
-			y = ym
-		case 3:
-			y = yp
-		case 4:
-			z = zm
-		case 5:
-			z = zp
-		}
+		to := [6]int{xm, xp, ym, yp, zm, zp}
+		c[dir>>1] = to[dir]
 	}
 }
 

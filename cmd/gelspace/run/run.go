@@ -56,14 +56,14 @@ type CheckpointPolicy struct {
 // BenchmarkHydrate100) while the set point and depercolation are refined
 // on clones, and the labelling (5 bytes); the D/D0 solve at the last age
 // runs beside the engine alone, with its vectors, multigrid levels and the
-// shared labelling (38 bytes, BenchmarkDiffusivityHydrated100). The
+// shared labelling (51 bytes, BenchmarkDiffusivityHydrated100). The
 // command holds the garbage collector to this figure (a soft memory
 // limit), so the resident peak stays near the live heap. Measured with GNU
 // time on default runs to 168 h (see README, Performance).
 const (
 	runFixedBytes     = 32 << 20
 	runBytesPerVoxel  = 50
-	diffBytesPerVoxel = 56 // replaces runBytesPerVoxel when D/D0 is computed
+	diffBytesPerVoxel = 58 // replaces runBytesPerVoxel when D/D0 is computed
 )
 
 // CheckMemory refuses, before anything is allocated, a box whose run
