@@ -145,6 +145,10 @@ type Output struct {
 	// empty means the last one only. Diffusivity = false turns it off.
 	DiffusivityTimesH []float64 `toml:"diffusivity_times_h"`
 	Diffusivity       bool      `toml:"diffusivity"`
+	// CapillaryDiffusivity adds, at every D/D0 age, the D/D0 of the
+	// capillary pores alone (C-S-H taken as insulating): a second solve
+	// while they still span the box, none once they have depercolated.
+	CapillaryDiffusivity bool `toml:"capillary_diffusivity"`
 	// DiffusivityTol is the relative residual at which the solve stops;
 	// the D/D0 it reports is accurate to about its square.
 	DiffusivityTol float64 `toml:"diffusivity_tol"`

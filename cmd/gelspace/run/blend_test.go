@@ -16,7 +16,7 @@ import (
 func blendRun(t *testing.T, n int, h, wb float64, seed int, scms ...string) *hydration {
 	t.Helper()
 	sets := []string{fmt.Sprintf("box.voxels=%d", n), fmt.Sprintf("box.voxel_um=%g", h), fmt.Sprintf("seed=%d", seed),
-		"mix.w_c=0", fmt.Sprintf("mix.w_b=%g", wb), "output.times_h=[24, 168, 672]", "output.diffusivity_times_h=[672]"}
+		"mix.w_c=0", fmt.Sprintf("mix.w_b=%g", wb), "output.times_h=[24, 168, 672]", "output.diffusivity_times_h=[672]", "output.capillary_diffusivity=true"}
 	for i, s := range scms {
 		var kind string
 		var pct float64

@@ -327,8 +327,11 @@ func (h *hydration) step() (bool, error) {
 			h.st.DiffAt = append(h.st.DiffAt, t)
 			// The capillary pores alone: no solve once they no longer
 			// span the box (D/D0 is then 0 along every axis).
-			var dc [3]float64
-			if p.SpanAxes > 0 {
+			dc := [3]float64{math.NaN(), math.NaN(), math.NaN()}
+			if h.cfg.Output.CapillaryDiffusivity {
+				dc = [3]float64{}
+			}
+			if h.cfg.Output.CapillaryDiffusivity && p.SpanAxes > 0 {
 				tab := CapillaryDiffusivities()
 				c, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol, Table: &tab})
 				if err != nil {

@@ -291,7 +291,7 @@ func (h *hydration) summary(m *Mix) *Summary {
 	s.Blend = h.blendSummary(m)
 	for k, t := range h.st.DiffAt {
 		d := DiffusivityAt{TimeH: t, Rel: h.st.Diff[k]}
-		if k < len(h.st.DiffCap) {
+		if k < len(h.st.DiffCap) && !math.IsNaN(h.st.DiffCap[k][0]) {
 			c := h.st.DiffCap[k]
 			d.RelCapillary = &c
 		}
