@@ -503,28 +503,8 @@ func (e *Engine) fireCoarse(d int) {
 func (e *Engine) coarseReaction(id kinetics.ID, d int, amt float64) {
 	switch {
 	case e.seq[id] != nil:
-		molVox := amt * e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
-		rxs := kinetics.Reactions()
-		seq := e.seq[id]
-		for k, rx := range seq {
-			r := &rxs[rx]
-			ok := true
-			for _, c := range r.Co {
-				if !e.ensure(c.Phase, c.Mol*molVox/r.PrimaryMol) {
-					ok = false
-					break
-				}
-			}
-			if !ok && k < len(seq)-1 {
-				continue
-			}
-			if ok {
-				for _, c := range r.Co {
-					e.withdraw(c.Phase, c.Mol*molVox/r.PrimaryMol)
-				}
-			}
+		if rx := e.sequenceReaction(id, amt*e.voxCM3/kinetics.Lookup(id).MolarVolumeCM3()); rx >= 0 {
 			e.coarseReact(id, rx, amt)
-			return
 		}
 	case id == kinetics.Hemihydrate:
 		e.coarseReact(id, e.rxIndex[kinetics.RxHemihydrate], amt)

@@ -301,18 +301,41 @@ func (e *Engine) dissolve(i int) {
 		if rx < 0 {
 			return
 		}
-		r := &kinetics.Reactions()[rx]
-		molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
-		for _, c := range r.Co {
-			if !e.ensure(c.Phase, c.Mol*molVox/r.PrimaryMol) {
-				return // the CH gate of computeRates keeps this rare
-			}
-		}
-		for _, c := range r.Co {
-			e.withdraw(c.Phase, c.Mol*molVox/r.PrimaryMol)
+		if !e.supplyCo(&kinetics.Reactions()[rx], e.voxCM3/kinetics.Lookup(id).MolarVolumeCM3()) {
+			return // the CH gate of computeRates keeps this rare
 		}
 		e.react(i, rx)
 	}
+}
+
+// supplyCo takes from the solution the co-reactants of reaction r for mol
+// of its primary phase. When the solution cannot supply them all it takes
+// none and reports false (what ensure dissolved stays in the pools).
+func (e *Engine) supplyCo(r *kinetics.Reaction, mol float64) bool {
+	for _, c := range r.Co {
+		if !e.ensure(c.Phase, c.Mol*mol/r.PrimaryMol) {
+			return false
+		}
+	}
+	for _, c := range r.Co {
+		e.withdraw(c.Phase, c.Mol*mol/r.PrimaryMol)
+	}
+	return true
+}
+
+// sequenceReaction returns the reaction of phase id's sequence
+// (kinetics.Sequence) to run for mol of it: the first whose co-reactants
+// the solution can supply, taken, or the last (which needs none) when none
+// can.
+func (e *Engine) sequenceReaction(id kinetics.ID, mol float64) int {
+	rxs := kinetics.Reactions()
+	seq := e.seq[id]
+	for k, rx := range seq {
+		if e.supplyCo(&rxs[rx], mol) || k == len(seq)-1 {
+			return rx
+		}
+	}
+	return -1
 }
 
 // dissolveInSequence runs the first reaction of the phase's sequence
@@ -320,28 +343,8 @@ func (e *Engine) dissolve(i int) {
 // aluminates, ettringite while sulfate lasts, carboaluminates while calcite
 // lasts, monosulfate from ettringite, hydrogarnet when nothing else is left.
 func (e *Engine) dissolveInSequence(i int, id kinetics.ID) {
-	molVox := e.voxCM3 / kinetics.Lookup(id).MolarVolumeCM3()
-	rxs := kinetics.Reactions()
-	seq := e.seq[id]
-	for k, rx := range seq {
-		r := &rxs[rx]
-		ok := true
-		for _, c := range r.Co {
-			if !e.ensure(c.Phase, c.Mol*molVox/r.PrimaryMol) {
-				ok = false
-				break
-			}
-		}
-		if !ok && k < len(seq)-1 {
-			continue
-		}
-		if ok {
-			for _, c := range r.Co {
-				e.withdraw(c.Phase, c.Mol*molVox/r.PrimaryMol)
-			}
-		}
+	if rx := e.sequenceReaction(id, e.voxCM3/kinetics.Lookup(id).MolarVolumeCM3()); rx >= 0 {
 		e.react(i, rx)
-		return
 	}
 }
 

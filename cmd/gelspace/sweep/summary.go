@@ -407,6 +407,18 @@ func plainReference(pl *Plan, first []Row) []int {
 	return ref
 }
 
+// lineFor returns the plot line of label, adding a new one to lines (and
+// byLabel) the first time.
+func lineFor(byLabel map[string]*plotLine, lines *[]*plotLine, label string) *plotLine {
+	l := byLabel[label]
+	if l == nil {
+		l = &plotLine{label: label}
+		byLabel[label] = l
+		*lines = append(*lines, l)
+	}
+	return l
+}
+
 // WriteSummaries writes summary.csv, summary_stats.csv and the plots
 // into dir.
 func WriteSummaries(dir string, pl *Plan, rows []Row) error {
@@ -447,13 +459,7 @@ func summaryLines(pl *Plan, first []Row, stats [][]replicateStats, runs []int, k
 			}
 			parts = append(parts, pl.Axes[ai].Key+" = "+pl.Axes[ai].Values[r.P.Values[ai]])
 		}
-		label := strings.Join(parts, ", ")
-		l := byLabel[label]
-		if l == nil {
-			l = &plotLine{label: label}
-			byLabel[label] = l
-			lines = append(lines, l)
-		}
+		l := lineFor(byLabel, &lines, strings.Join(parts, ", "))
 		s := stats[i][k]
 		if math.IsNaN(s.Mean) {
 			continue
@@ -645,13 +651,7 @@ func psdLines(pl *Plan, first []Row, stats [][]replicateStats, runs []int, k, kx
 			}
 			parts = append(parts, a.Key+" = "+a.Values[r.P.Values[ai]])
 		}
-		label := strings.Join(parts, ", ")
-		l := byLabel[label]
-		if l == nil {
-			l = &plotLine{label: label}
-			byLabel[label] = l
-			lines = append(lines, l)
-		}
+		l := lineFor(byLabel, &lines, strings.Join(parts, ", "))
 		sy, sx := stats[i][k], stats[i][kx]
 		if math.IsNaN(sy.Mean) || math.IsNaN(sx.Mean) {
 			continue
