@@ -163,19 +163,8 @@ func TestCHRunsOut(t *testing.T) {
 // of each SCM (its reactive and inert parts) matches the mix within 1 %
 // absolute, for a ternary blend of slag and silica fume.
 func TestPackedSCMVolumes(t *testing.T) {
-	cfg, err := configs.Load("", []string{"box.voxels=48", "mix.w_c=0", "mix.w_b=0.40",
-		`scm.0.kind="slag"`, "scm.0.mass_percent=30", `scm.1.kind="silica_fume"`, "scm.1.mass_percent=8"})
-	if err != nil {
-		t.Fatal(err)
-	}
-	m, err := Resolve(cfg)
-	if err != nil {
-		t.Fatal(err)
-	}
-	res, err := Pack(m)
-	if err != nil {
-		t.Fatal(err)
-	}
+	m, res := packedMix(t, "box.voxels=48", "mix.w_c=0", "mix.w_b=0.40",
+		`scm.0.kind="slag"`, "scm.0.mass_percent=30", `scm.1.kind="silica_fume"`, "scm.1.mass_percent=8")
 	g := res.Grid
 	pops := m.Populations(g.Len())
 	for _, sm := range m.SCMs {

@@ -13,12 +13,11 @@ import (
 	"gelspace/voxel"
 )
 
-// coarseEngine packs the demo cement with Rosin–Rammler x′ = xUM on an n³
-// box and returns the mix and the engine with its carried grains.
-func coarseEngine(t *testing.T, n int, seed int64, xUM float64) (*Mix, *voxel.Engine) {
+// packedMix resolves and packs the embedded default with the --set
+// overrides sets.
+func packedMix(t *testing.T, sets ...string) (*Mix, *voxel.PackResult) {
 	t.Helper()
-	cfg, err := configs.Load("", []string{fmt.Sprintf("box.voxels=%d", n), fmt.Sprintf("seed=%d", seed),
-		fmt.Sprintf("psd.rosin_rammler.x_um=%g", xUM), "output.diffusivity=false"})
+	cfg, err := configs.Load("", sets)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -30,6 +29,16 @@ func coarseEngine(t *testing.T, n int, seed int64, xUM float64) (*Mix, *voxel.En
 	if err != nil {
 		t.Fatal(err)
 	}
+	return m, res
+}
+
+// coarseEngine packs the demo cement with Rosin–Rammler x′ = xUM on an n³
+// box and returns the mix and the engine with its carried grains.
+func coarseEngine(t *testing.T, n int, seed int64, xUM float64) (*Mix, *voxel.Engine) {
+	t.Helper()
+	m, res := packedMix(t, fmt.Sprintf("box.voxels=%d", n), fmt.Sprintf("seed=%d", seed),
+		fmt.Sprintf("psd.rosin_rammler.x_um=%g", xUM), "output.diffusivity=false")
+	cfg := m.Cfg
 	set, err := cfg.EngineSettings()
 	if err != nil {
 		t.Fatal(err)
