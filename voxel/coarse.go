@@ -587,21 +587,8 @@ func (e *Engine) CarriedInner(id kinetics.ID) float64 { return e.s.Coarse.Inner[
 // fillers are grains of their own.
 func CarriedPopulations(voxels [kinetics.NumIDs]float64, grains ClinkerGrains) []CarriedPopulation {
 	var pops []CarriedPopulation
-	var clinker CarriedPopulation
-	for id, v := range voxels {
-		if v <= 0 || !kinetics.IsAnhydrous(kinetics.ID(id)) {
-			continue
-		}
-		p := kinetics.Lookup(kinetics.ID(id))
-		if p.Role == kinetics.RoleClinker && grains == Polymineral {
-			clinker.Phases = append(clinker.Phases, p.ID)
-			clinker.Voxels = append(clinker.Voxels, v)
-			continue
-		}
-		pops = append(pops, CarriedPopulation{Phases: []kinetics.ID{p.ID}, Voxels: []float64{v}})
-	}
-	if len(clinker.Phases) > 0 {
-		pops = append([]CarriedPopulation{clinker}, pops...)
+	for _, g := range grainGroups(&voxels, func(id int) bool { return voxels[id] > 0 }, grains) {
+		pops = append(pops, CarriedPopulation{Phases: g.phases, Voxels: g.amounts})
 	}
 	return pops
 }

@@ -63,23 +63,43 @@ func Populations(pasteVol [kinetics.NumIDs]float64, nVoxels int, grains ClinkerG
 		have++
 	}
 	var pops []Population
-	var clinker Population
-	for id, c := range cnt {
-		if want[id] == 0 {
+	for _, g := range grainGroups(&cnt, func(id int) bool { return want[id] > 0 }, grains) {
+		pops = append(pops, Population{Phases: g.phases, Voxels: g.amounts})
+	}
+	return pops
+}
+
+// grainGroup is one population of grainGroups: its phases and the amount
+// of each.
+type grainGroup[T int | float64] struct {
+	phases  []kinetics.ID
+	amounts []T
+}
+
+// grainGroups sorts the anhydrous phases that use admits into grain
+// populations, in id order: the clinker phases share one polymineral
+// population, first, unless grains is Monomineral; every other phase
+// (sulfates, fillers, each clinker phase when monomineral) is a
+// population of its own.
+func grainGroups[T int | float64](amt *[kinetics.NumIDs]T, use func(id int) bool, grains ClinkerGrains) []grainGroup[T] {
+	var out []grainGroup[T]
+	var clinker grainGroup[T]
+	for id := range amt {
+		if !kinetics.IsAnhydrous(kinetics.ID(id)) || !use(id) {
 			continue
 		}
 		p := kinetics.Lookup(kinetics.ID(id))
 		if p.Role == kinetics.RoleClinker && grains == Polymineral {
-			clinker.Phases = append(clinker.Phases, p.ID)
-			clinker.Voxels = append(clinker.Voxels, c)
+			clinker.phases = append(clinker.phases, p.ID)
+			clinker.amounts = append(clinker.amounts, amt[id])
 			continue
 		}
-		pops = append(pops, Population{Phases: []kinetics.ID{p.ID}, Voxels: []int{c}})
+		out = append(out, grainGroup[T]{phases: []kinetics.ID{p.ID}, amounts: []T{amt[id]}})
 	}
-	if len(clinker.Phases) > 0 {
-		pops = append([]Population{clinker}, pops...)
+	if len(clinker.phases) > 0 {
+		out = append([]grainGroup[T]{clinker}, out...)
 	}
-	return pops
+	return out
 }
 
 // ClinkerGrains is the mineralogy of the clinker grains of a pack.
