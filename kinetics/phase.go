@@ -75,7 +75,7 @@ const (
 	Slag       ID = 65 // ground granulated blast-furnace slag glass
 	Metakaolin ID = 67 // AS2, calcined kaolinite
 
-	PozzCSH      ID = 104 // C1.1SH3.4, low-Ca C-S-H of the pozzolanic and slag reactions
+	CSHLowCa     ID = 104 // C1.1SH3.4, low-Ca C-S-H of the pozzolanic and slag reactions
 	Stratlingite ID = 128 // C2ASH8
 	Hydrotalcite ID = 134 // M4AH10
 )
@@ -238,7 +238,7 @@ var phases = []Phase{
 	// molar volumes (an assumption): ρ = 183.02/88 = 2.08 g/cm³, inside
 	// the 1.9–2.1 g/cm³ of saturated C-S-H (common practice). D-dry water
 	// about 1.1 H2O (assumption, scaled from the clinker C-S-H).
-	{ID: PozzCSH, Key: "csh_pozz", Name: "C-S-H (low Ca/Si, pozzolanic)", Role: RoleHydrate, DensityGPerCM3: 183.02 / 88, MolarMassGPerMol: 183.02, BoundWaterMol: 1.1, MeanZ: 11.55,
+	{ID: CSHLowCa, Key: "csh_low_ca", Name: "C-S-H (low Ca/Si, pozzolanic)", Role: RoleHydrate, DensityGPerCM3: 183.02 / 88, MolarMassGPerMol: 183.02, BoundWaterMol: 1.1, MeanZ: 11.55,
 		Colour: color.RGBA{0x5a, 0xb9, 0x99, 0xff}},
 	// Strätlingite C2ASH8 (M 418.32 g/mol), Vm 216.1 cm³/mol from
 	// Cemdata18 (Lothenbach et al., Cem. Concr. Res. 115 (2019) 472; from

@@ -113,13 +113,13 @@ var reactions = []Reaction{
 	//     from memory);
 	//   - metakaolin 800 (from memory, rough).
 	{Key: RxSilicaFume, Formula: "S + 1.1CH + 2.3H → C1.1SH3.4", Primary: SilicaFume, PrimaryMol: 1, Co: []Term{{CH, 1.1}}, WaterMol: 2.3,
-		Products: []Term{{PozzCSH, 1}}, HeatJPerG: 780},
+		Products: []Term{{CSHLowCa, 1}}, HeatJPerG: 780},
 	{Key: RxFlyAsh, Formula: "SA0.25C0.1 + 1.225CH + 3.325H → 0.75C1.1SH3.4 + 0.25C2ASH8", Primary: FlyAsh, PrimaryMol: 1, Co: []Term{{CH, 1.225}}, WaterMol: 3.325,
-		Products: []Term{{PozzCSH, 0.75}, {Stratlingite, 0.25}}, HeatJPerG: 514},
+		Products: []Term{{CSHLowCa, 0.75}, {Stratlingite, 0.25}}, HeatJPerG: 514},
 	{Key: RxSlag, Formula: "C1.2SA0.16M0.4 + 4.722H → 0.94C1.1SH3.4 + 0.06C2ASH8 + 0.1M4AH10 + 0.046CH", Primary: Slag, PrimaryMol: 1, WaterMol: 4.722,
-		Products: []Term{{PozzCSH, 0.94}, {Stratlingite, 0.06}, {Hydrotalcite, 0.1}, {CH, 0.046}}, HeatJPerG: 461},
+		Products: []Term{{CSHLowCa, 0.94}, {Stratlingite, 0.06}, {Hydrotalcite, 0.1}, {CH, 0.046}}, HeatJPerG: 461},
 	{Key: RxMetakaolin, Formula: "AS2 + 3.1CH + 8.3H → C2ASH8 + C1.1SH3.4", Primary: Metakaolin, PrimaryMol: 1, Co: []Term{{CH, 3.1}}, WaterMol: 8.3,
-		Products: []Term{{Stratlingite, 1}, {PozzCSH, 1}}, HeatJPerG: 800},
+		Products: []Term{{Stratlingite, 1}, {CSHLowCa, 1}}, HeatJPerG: 800},
 }
 
 // PrimaryReaction returns the key of the one reaction a phase without a

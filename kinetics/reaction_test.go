@@ -54,7 +54,7 @@ var oxideMoles = map[ID][8]float64{
 	FlyAsh:       {0.1, 1, 0.25, 0, 0, 0, 0, 0},
 	Slag:         {1.2, 1, 0.16, 0, 0.4, 0, 0, 0},
 	Metakaolin:   {0, 2, 1, 0, 0, 0, 0, 0},
-	PozzCSH:      {1.1, 1, 0, 0, 0, 0, 0, 3.4},
+	CSHLowCa:     {1.1, 1, 0, 0, 0, 0, 0, 3.4},
 	Stratlingite: {2, 1, 1, 0, 0, 0, 0, 8},
 	Hydrotalcite: {0, 0, 1, 0, 4, 0, 0, 10},
 	Water:        {0, 0, 0, 0, 0, 0, 0, 1},
@@ -98,7 +98,7 @@ func TestSCMReactionsBalanceByOxide(t *testing.T) {
 // 18.015 g/mol; compiled standard values).
 func TestSCMMolarMassesFromFormulas(t *testing.T) {
 	ox := [8]float64{56.077, 60.084, 101.96, 159.69, 40.304, 80.06, 44.01, 18.015}
-	for _, id := range []ID{SilicaFume, FlyAsh, Slag, Metakaolin, PozzCSH, Stratlingite, Hydrotalcite} {
+	for _, id := range []ID{SilicaFume, FlyAsh, Slag, Metakaolin, CSHLowCa, Stratlingite, Hydrotalcite} {
 		m := 0.0
 		for k, n := range oxideMoles[id] {
 			m += n * ox[k]

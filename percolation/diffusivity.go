@@ -41,7 +41,7 @@ func DefaultDiffusivities() [kinetics.NumIDs]float64 {
 	t[kinetics.CSHOuter] = CSHRelDiffusivity
 	// The low-Ca C-S-H of the SCM reactions is taken to conduct as the
 	// clinker's C-S-H (an assumption: no separate figure is used).
-	t[kinetics.PozzCSH] = CSHRelDiffusivity
+	t[kinetics.CSHLowCa] = CSHRelDiffusivity
 	return t
 }
 

@@ -281,7 +281,7 @@ var meanZFormulas = map[string]map[string]float64{
 	"fly_ash":       {"Si": 1, "Al": 0.5, "Ca": 0.1, "O": 2.85},             // SA0.25C0.1
 	"slag":          {"Ca": 1.2, "Si": 1, "Al": 0.32, "Mg": 0.4, "O": 4.08}, // C1.2SA0.16M0.4
 	"metakaolin":    {"Al": 2, "Si": 2, "O": 7},                             // Al2O3·2SiO2
-	"csh_pozz":      {"Ca": 1.1, "Si": 1, "O": 6.5, "H": 6.8},               // C1.1SH3.4
+	"csh_low_ca":    {"Ca": 1.1, "Si": 1, "O": 6.5, "H": 6.8},               // C1.1SH3.4
 	"stratlingite":  {"Ca": 2, "Al": 2, "Si": 1, "O": 15, "H": 16},          // C2ASH8
 	"hydrotalcite":  {"Mg": 4, "Al": 2, "O": 17, "H": 20},                   // M4AH10
 	"monocarbonate": {"Ca": 4, "Al": 2, "C": 1, "O": 20, "H": 22},           // 3CaO·Al2O3·CaCO3·11H2O

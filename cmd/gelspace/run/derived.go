@@ -85,7 +85,7 @@ func massPer100G(e *voxel.Engine, id kinetics.ID) float64 {
 // diffusivity columns must be set.
 func (h *hydration) derive(r, prev []float64) {
 	n := h.e.PasteVoxels()
-	vCSH := (h.e.PasteCount(kinetics.CSHInner) + h.e.PasteCount(kinetics.CSHOuter) + h.e.PasteCount(kinetics.PozzCSH)) / n
+	vCSH := (h.e.PasteCount(kinetics.CSHInner) + h.e.PasteCount(kinetics.CSHOuter) + h.e.PasteCount(kinetics.CSHLowCa)) / n
 	r[colGelSpace] = GelSpaceRatio(r[colAlpha], h.cfg.Mix.WC)
 	r[colGelPor] = GelPorosity(vCSH)
 	r[colTotPor] = r[colCapPor] + r[colGelPor]
@@ -93,7 +93,7 @@ func (h *hydration) derive(r, prev []float64) {
 	r[colBoundW] = 100 * r[colNonEvap]
 	r[colAFt] = massPer100G(h.e, kinetics.AFt)
 	r[colAFm] = massPer100G(h.e, kinetics.AFm)
-	r[colCSH] = massPer100G(h.e, kinetics.CSHInner) + massPer100G(h.e, kinetics.CSHOuter) + massPer100G(h.e, kinetics.PozzCSH)
+	r[colCSH] = massPer100G(h.e, kinetics.CSHInner) + massPer100G(h.e, kinetics.CSHOuter) + massPer100G(h.e, kinetics.CSHLowCa)
 	if !math.IsNaN(r[colDiff]) {
 		r[colFormation] = 1 / r[colDiff] // +Inf when no path conducts
 	}
