@@ -134,30 +134,32 @@ type mgScratch struct {
 // forward and backward are Gauss–Seidel sweeps on A x = f in node order
 // and in reverse; backward is the adjoint of forward.
 func (c *gLevel) forward() {
-	for i := range c.n {
-		c.gsNode(i)
+	ptr, col, val, invd, f, x := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x
+	for i, m := range invd {
+		if m != 0 {
+			x[i] = gsValue(col, val, x, ptr[i], ptr[i+1], f[i]) * m
+		}
 	}
 }
 
 func (c *gLevel) backward() {
+	ptr, col, val, invd, f, x := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x
 	for i := c.n - 1; i >= 0; i-- {
-		c.gsNode(i)
+		if m := invd[i]; m != 0 {
+			x[i] = gsValue(col, val, x, ptr[i], ptr[i+1], f[i]) * m
+		}
 	}
 }
 
-func (c *gLevel) gsNode(i int) {
-	m := c.invd[i]
-	if m == 0 {
-		return
-	}
-	v := c.f[i]
-	lo, hi := c.ptr[i], c.ptr[i+1]
-	cols, vals := c.col[lo:hi], c.val[lo:hi]
+// gsValue returns v + Σ val[k]·x[col[k]] over the entries [lo, hi) of a
+// row, summed in entry order.
+func gsValue(col []int32, val []float32, x []float64, lo, hi int32, v float64) float64 {
+	cols, vals := col[lo:hi], val[lo:hi]
 	vals = vals[:len(cols)]
 	for k, j := range cols {
-		v += float64(vals[k]) * c.x[j]
+		v += float64(vals[k]) * x[j]
 	}
-	c.x[i] = v * m
+	return v
 }
 
 // uf is a union–find forest over int32 node numbers; the root of a set is
@@ -371,17 +373,12 @@ func (c *gLevel) visitDiag(next *gLevel) {
 func (c *gLevel) restrict(next *gLevel) {
 	cf := next.f[:next.n]
 	clear(cf)
-	for i := range c.n {
-		if c.invd[i] == 0 {
+	ptr, col, val, invd, f, x, agg := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x, c.agg[:c.n]
+	for i, m := range invd {
+		if m == 0 || agg[i] < 0 {
 			continue
 		}
-		v := c.f[i] - c.x[i]/c.invd[i]
-		for k := c.ptr[i]; k < c.ptr[i+1]; k++ {
-			v += float64(c.val[k]) * c.x[c.col[k]]
-		}
-		if c.agg[i] >= 0 {
-			cf[c.agg[i]] += v
-		}
+		cf[agg[i]] += gsValue(col, val, x, ptr[i], ptr[i+1], f[i]-x[i]/m)
 	}
 }
 
@@ -448,20 +445,13 @@ func (s *Solver) cycle(k int) {
 	x1, x, f := c.x1[:n], c.x[:n], c.f[:n]
 	copy(x1, x)
 	// f − A x1 in place of f.
-	for i := range n {
-		m := c.invd[i]
+	ptr, invd := c.ptr[:n+1], c.invd[:n]
+	for i, m := range invd {
 		if m == 0 {
 			f[i] = 0
 			continue
 		}
-		v := f[i] - x1[i]/m
-		lo, hi := c.ptr[i], c.ptr[i+1]
-		cols, vals := c.col[lo:hi], c.val[lo:hi]
-		vals = vals[:len(cols)]
-		for q, j := range cols {
-			v += float64(vals[q]) * x1[j]
-		}
-		f[i] = v
+		f[i] = gsValue(c.col, c.val, x1, ptr[i], ptr[i+1], f[i]-x1[i]/m)
 	}
 	s.vcycle(k)
 	for i := range n {
