@@ -151,7 +151,7 @@ func (s *Solver) footprint() int {
 		n += 8 * (cap(r[0]) + cap(r[1]))
 	}
 	for _, c := range s.mg {
-		n += 4*(cap(c.ptr)+cap(c.col)+cap(c.val)+cap(c.agg)) + 8*(cap(c.invd)+cap(c.f)+cap(c.x))
+		n += 4 * (cap(c.ptr) + cap(c.col) + cap(c.val) + cap(c.agg) + cap(c.invd) + cap(c.f) + cap(c.x) + cap(c.x1))
 	}
 	l := &s.lab
 	n += 4*(cap(l.parent)+cap(l.final)+cap(l.cl.Label)+cap(l.cl.Size)/2*2) + 12*cap(l.off) + cap(l.wrap) + 2*cap(l.touch) + cap(l.in) + 3*cap(l.cl.Spans) + 8*cap(l.cl.Size)

@@ -47,7 +47,9 @@ package percolation
 // Solver.cycle), which damps the smooth errors that one cycle of plain
 // aggregation leaves and so cuts the iterations by about 40 %. Every fine
 // smoothing step multiplies by the same single-precision inverse diagonal
-// and every coarse one by the same double-precision one, so the cycle is a
+// and every coarse one by the same single-precision one (the coarse
+// vectors are single precision too, each row summed in double precision),
+// so the cycle is a
 // symmetric positive definite operator to the rounding of the
 // single-precision vectors, as conjugate gradients need (TestMGSymmetric).
 // Boxes of at most mgCoarsestLen voxels use the Jacobi diagonal alone.
@@ -105,9 +107,9 @@ type gLevel struct {
 	ptr  []int32   // row I holds entries ptr[I] to ptr[I+1]
 	col  []int32   // neighbour of each entry
 	val  []float32 // conductance of each entry (minus the matrix entry)
-	invd []float64 // 1/A_II, 0 where A_II is 0
-	f, x []float64 // right-hand side, iterate
-	x1   []float64 // the first V-cycle's result in a two-step cycle
+	invd []float32 // 1/A_II, 0 where A_II is 0
+	f, x []float32 // right-hand side, iterate
+	x1   []float32 // the first V-cycle's result in a two-step cycle
 	agg  []int32   // aggregate of each node on the next level
 
 	// while building
@@ -137,7 +139,7 @@ func (c *gLevel) forward() {
 	ptr, col, val, invd, f, x := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x
 	for i, m := range invd {
 		if m != 0 {
-			x[i] = gsValue(col, val, x, ptr[i], ptr[i+1], f[i]) * m
+			x[i] = float32(gsValue(col, val, x, ptr[i], ptr[i+1], float64(f[i])) * float64(m))
 		}
 	}
 }
@@ -146,18 +148,18 @@ func (c *gLevel) backward() {
 	ptr, col, val, invd, f, x := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x
 	for i := c.n - 1; i >= 0; i-- {
 		if m := invd[i]; m != 0 {
-			x[i] = gsValue(col, val, x, ptr[i], ptr[i+1], f[i]) * m
+			x[i] = float32(gsValue(col, val, x, ptr[i], ptr[i+1], float64(f[i])) * float64(m))
 		}
 	}
 }
 
 // gsValue returns v + Σ val[k]·x[col[k]] over the entries [lo, hi) of a
 // row, summed in entry order.
-func gsValue(col []int32, val []float32, x []float64, lo, hi int32, v float64) float64 {
+func gsValue(col []int32, val []float32, x []float32, lo, hi int32, v float64) float64 {
 	cols, vals := col[lo:hi], val[lo:hi]
 	vals = vals[:len(cols)]
 	for k, j := range cols {
-		v += float64(vals[k]) * x[j]
+		v += float64(vals[k]) * float64(x[j])
 	}
 	return v
 }
@@ -246,8 +248,8 @@ func (c *gLevel) assemble(nc int, src edgeSource) {
 	c.merge()
 	for I, d := range c.diag {
 		c.invd[I] = 0
-		if d > 1e-300 {
-			c.invd[I] = 1 / d
+		if d > 1e-30 { // 1/d within single precision
+			c.invd[I] = float32(1 / d)
 		}
 	}
 }
@@ -378,7 +380,7 @@ func (c *gLevel) restrict(next *gLevel) {
 		if m == 0 || agg[i] < 0 {
 			continue
 		}
-		cf[agg[i]] += gsValue(col, val, x, ptr[i], ptr[i+1], f[i]-x[i]/m)
+		cf[agg[i]] += float32(gsValue(col, val, x, ptr[i], ptr[i+1], float64(f[i])-float64(x[i])/float64(m)))
 	}
 }
 
@@ -451,7 +453,7 @@ func (s *Solver) cycle(k int) {
 			f[i] = 0
 			continue
 		}
-		f[i] = gsValue(c.col, c.val, x1, ptr[i], ptr[i+1], f[i]-x1[i]/m)
+		f[i] = float32(gsValue(c.col, c.val, x1, ptr[i], ptr[i+1], float64(f[i])-float64(x1[i])/float64(m)))
 	}
 	s.vcycle(k)
 	for i := range n {
@@ -633,8 +635,8 @@ func (s *Solver) assembleFine(c *gLevel, nc int) {
 		}
 		c.diag[I] = diag
 		c.invd[I] = 0
-		if diag > 1e-300 {
-			c.invd[I] = 1 / diag
+		if diag > 1e-30 { // 1/diag within single precision
+			c.invd[I] = float32(1 / diag)
 		}
 	}
 	c.ptr[nc] = int32(len(c.col))
@@ -891,7 +893,7 @@ func (s *Solver) gsEnd(xv, f []float32, y, z, x int) float64 {
 // vanishes on the other colour). The voxels of one aggregate lie in one
 // 2×2×2 block, so ranges of planes that start at even planes write
 // disjoint entries of cf, each in the same order whatever the ranges.
-func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, q []float32) {
+func (s *Solver) restrictResidual(x, f []float32, cf []float32, c, z0, z1 int, q []float32) {
 	nx, ny := s.box.NX, s.box.NY
 	for z := z0; z < z1; z++ {
 		for y := range ny {
@@ -905,7 +907,7 @@ func (s *Solver) restrictResidual(x, f []float32, cf []float64, c, z0, z1 int, q
 			q = q[:nx]
 			for i := x0; i < nx; i += step {
 				if I := ar[i]; I >= 0 {
-					cf[I] += float64(fr[i] - q[i])
+					cf[I] += fr[i] - q[i]
 				}
 			}
 		}
@@ -932,7 +934,7 @@ func (s *Solver) mgPass(op, k, z0, z1 int) {
 				xr, ar := s.z[row:row+nx], s.agg[row : row+nx][:nx]
 				for i := x0; i < nx; i += step {
 					if I := ar[i]; I >= 0 {
-						xr[i] = float32(float64(xr[i]) + cx[I])
+						xr[i] = float32(float64(xr[i]) + float64(cx[I]))
 					}
 				}
 			}

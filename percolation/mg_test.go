@@ -347,7 +347,7 @@ func TestMGGalerkin(t *testing.T) {
 		for I := range got {
 			got[I] = make([]float64, c.n)
 			if c.invd[I] != 0 {
-				got[I][I] = 1 / c.invd[I] // the diagonal is kept as its inverse
+				got[I][I] = 1 / float64(c.invd[I]) // the diagonal is kept as its inverse
 			}
 			for e := c.ptr[I]; e < c.ptr[I+1]; e++ {
 				got[I][c.col[e]] -= float64(c.val[e])
@@ -410,7 +410,7 @@ func TestMGCoarseGalerkin(t *testing.T) {
 				for I := range A {
 					A[I] = make([]float64, c.n)
 					if c.invd[I] != 0 {
-						A[I][I] = 1 / c.invd[I]
+						A[I][I] = 1 / float64(c.invd[I])
 					}
 					for e := c.ptr[I]; e < c.ptr[I+1]; e++ {
 						A[I][c.col[e]] -= float64(c.val[e])
