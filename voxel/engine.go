@@ -166,7 +166,9 @@ type EngineSettings struct {
 	Seed    uint64 // random seed
 }
 
-// NewEngine prepares the grid for hydration. The engine owns g from now on.
+// NewEngine prepares the grid for hydration. The engine owns g from now on;
+// its particle map (g.Particle) is read-only from then on, shared by the
+// engine's clones.
 func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	if err := set.Params.Validate(); err != nil {
 		return nil, err

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math"
 	"os"
+	"slices"
 	"testing"
 
 	"gelspace/kinetics"
@@ -336,5 +337,13 @@ func TestCloneGoesOnAlike(t *testing.T) {
 	runTo(t, e, []float64{40})
 	if !bytes.Equal(c.Grid().Phase, e.Grid().Phase) || c.HeatJPerG() != e.HeatJPerG() {
 		t.Error("clone and original differ at the same age")
+	}
+	// The particle map is shared, and hydration leaves it as packed.
+	if &c.Grid().Particle[0] != &e.Grid().Particle[0] {
+		t.Error("the clone copied the particle map")
+	}
+	fresh := enginePaste(t, 30, 1, 0.45, 18)
+	if !slices.Equal(fresh.Particle, e.Grid().Particle) {
+		t.Error("hydration changed the particle map")
 	}
 }
