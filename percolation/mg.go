@@ -1,5 +1,7 @@
 package percolation
 
+import "sync"
+
 // The preconditioner of the diffusivity solve is one V-cycle of
 // aggregation multigrid.
 //
@@ -42,7 +44,10 @@ package percolation
 // on the first) before and as many backward sweeps after the correction
 // below, and the coarsest
 // level (at most mgCoarsestLen aggregates, or no further grouping
-// possible) with mgCoarseSweeps symmetric sweeps from 0. The second coarse
+// possible) with mgCoarseSweeps symmetric sweeps from 0. The coarse sweeps,
+// restrictions and prolongations of the larger levels run by slabs of z
+// planes on the solver's workers, in an order that does not depend on
+// their number (see setSlabs). The second coarse
 // level is solved by two V-cycles joined by a polynomial step (see
 // Solver.cycle), which damps the smooth errors that one cycle of plain
 // aggregation leaves and so cuts the iterations by about 40 %. Every fine
@@ -111,6 +116,7 @@ type gLevel struct {
 	f, x []float32 // right-hand side, iterate
 	x1   []float32 // the first V-cycle's result in a two-step cycle
 	agg  []int32   // aggregate of each node on the next level
+	slab []int32   // node bounds of the level's slabs (see setSlabs), nil when it is swept whole
 
 	// while building
 	diag []float64 // diagonal of A
@@ -133,24 +139,148 @@ type mgScratch struct {
 	strong   []bool    // whether the row has a strong entry, while aggregating
 }
 
-// forward and backward are Gauss–Seidel sweeps on A x = f in node order
-// and in reverse; backward is the adjoint of forward.
-func (c *gLevel) forward() {
+// forward and backward are Gauss–Seidel sweeps on A x = f over the nodes
+// [lo, hi), in node order and in reverse; backward is the adjoint of
+// forward.
+func (c *gLevel) forward(lo, hi int32) {
 	ptr, col, val, invd, f, x := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x
-	for i, m := range invd {
-		if m != 0 {
+	for i := lo; i < hi; i++ {
+		if m := invd[i]; m != 0 {
 			x[i] = float32(gsValue(col, val, x, ptr[i], ptr[i+1], float64(f[i])) * float64(m))
 		}
 	}
 }
 
-func (c *gLevel) backward() {
+func (c *gLevel) backward(lo, hi int32) {
 	ptr, col, val, invd, f, x := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x
-	for i := c.n - 1; i >= 0; i-- {
+	for i := hi - 1; i >= lo; i-- {
 		if m := invd[i]; m != 0 {
 			x[i] = float32(gsValue(col, val, x, ptr[i], ptr[i+1], float64(f[i])) * float64(m))
 		}
 	}
+}
+
+// Slabs. A coarse level of at least mgSlabMinNodes nodes is cut into an
+// even number (at most mgSlabs) of slabs: runs of its block grid's z
+// planes, each starting at an even plane. Its entries join only nodes of
+// neighbouring planes (each comes from a bond between face neighbours), so
+// a slab touches only the slabs before and after it, and the even slabs,
+// and then the odd ones, can be swept at the same time: a Gauss–Seidel
+// sweep in this two-colour order of slabs (and its reverse, the adjoint)
+// gives the same result whether the slabs run one after another or in
+// parallel. Restriction and prolongation run by slab too: the nodes of a
+// next-level aggregate lie in one pair of planes, so in one slab. The
+// order does not depend on the number of workers, so neither do the
+// iterates.
+const (
+	mgSlabs        = 16
+	mgSlabMinNodes = 4096
+)
+
+// setSlabs cuts level c into slabs from its nodes' block coordinates
+// (c.blk on the grid c.dims), or leaves c.slab nil (the level is swept
+// whole, in node order) when it is small, its block grid has fewer than
+// four planes, or its nodes are not in order of plane (which the
+// numbering of aggregates gives) or an entry joins two slabs of one colour.
+func (c *gLevel) setSlabs() {
+	c.slab = c.slab[:0]
+	pairs := (c.dims[2] + 1) / 2
+	ns := min(mgSlabs, pairs) &^ 1
+	if c.n < mgSlabMinNodes || ns < 2 {
+		c.slab = nil
+		return
+	}
+	// Slab k holds the plane pairs [k·pairs/ns, (k+1)·pairs/ns).
+	slabOf := func(I int) int {
+		return (int(c.blk[3*I+2]) / 2 * ns) / pairs
+	}
+	c.slab = append(c.slab, 0)
+	prev := 0
+	for I := range c.n {
+		k := slabOf(I)
+		if k < prev {
+			c.slab = nil
+			return
+		}
+		for ; prev < k; prev++ {
+			c.slab = append(c.slab, int32(I))
+		}
+	}
+	for ; prev < ns; prev++ {
+		c.slab = append(c.slab, int32(c.n))
+	}
+	for I := range c.n {
+		a := slabOf(I)
+		for e := c.ptr[I]; e < c.ptr[I+1]; e++ {
+			b := slabOf(int(c.col[e]))
+			if a != b && (a-b)&1 == 0 {
+				c.slab = nil
+				return
+			}
+		}
+	}
+}
+
+// eachSlab runs f on the slabs k = first, first+step, … < ns of a level,
+// spread over the solver's workers, and waits for all.
+func (s *Solver) eachSlab(ns, first, step int, f func(k int)) {
+	cnt := (ns - first + step - 1) / step
+	w := min(s.workers, cnt)
+	if w <= 1 {
+		for k := first; k < ns; k += step {
+			f(k)
+		}
+		return
+	}
+	var wg sync.WaitGroup
+	for j := 1; j < w; j++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for q := j; q < cnt; q += w {
+				f(first + q*step)
+			}
+		}()
+	}
+	for q := 0; q < cnt; q += w {
+		f(first + q*step)
+	}
+	wg.Wait()
+}
+
+// forwardSweep and backwardSweep are the Gauss–Seidel sweeps of level c,
+// by slabs when it has them: the even slabs then the odd ones forward,
+// the odd ones then the even ones backward, each in reverse node order.
+func (s *Solver) forwardSweep(c *gLevel) {
+	if c.slab == nil {
+		c.forward(0, int32(c.n))
+		return
+	}
+	ns := len(c.slab) - 1
+	for colour := range 2 {
+		s.eachSlab(ns, colour, 2, func(k int) { c.forward(c.slab[k], c.slab[k+1]) })
+	}
+}
+
+func (s *Solver) backwardSweep(c *gLevel) {
+	if c.slab == nil {
+		c.backward(0, int32(c.n))
+		return
+	}
+	ns := len(c.slab) - 1
+	for colour := 1; colour >= 0; colour-- {
+		s.eachSlab(ns, colour, 2, func(k int) { c.backward(c.slab[k], c.slab[k+1]) })
+	}
+}
+
+// byRange runs f on the node ranges of level c's slabs in parallel, or on
+// all its nodes at once.
+func (s *Solver) byRange(c *gLevel, f func(lo, hi int32)) {
+	if c.slab == nil {
+		f(0, int32(c.n))
+		return
+	}
+	s.eachSlab(len(c.slab)-1, 0, 1, func(k int) { f(c.slab[k], c.slab[k+1]) })
 }
 
 // gsValue returns v + Σ val[k]·x[col[k]] over the entries [lo, hi) of a
@@ -371,12 +501,13 @@ func (c *gLevel) visitDiag(next *gLevel) {
 	}
 }
 
-// restrict sets next.f = Pᵀ (f − A x).
-func (c *gLevel) restrict(next *gLevel) {
+// restrict sets next.f = Pᵀ (f − A x) from the nodes [lo, hi) (next.f
+// cleared before).
+func (c *gLevel) restrict(next *gLevel, lo, hi int32) {
 	cf := next.f[:next.n]
-	clear(cf)
 	ptr, col, val, invd, f, x, agg := c.ptr[:c.n+1], c.col, c.val, c.invd[:c.n], c.f[:c.n], c.x, c.agg[:c.n]
-	for i, m := range invd {
+	for i := lo; i < hi; i++ {
+		m := invd[i]
 		if m == 0 || agg[i] < 0 {
 			continue
 		}
@@ -384,11 +515,12 @@ func (c *gLevel) restrict(next *gLevel) {
 	}
 }
 
-// prolong adds x += P (next.x).
-func (c *gLevel) prolong(next *gLevel) {
-	for i := range c.n {
-		if c.invd[i] != 0 && c.agg[i] >= 0 {
-			c.x[i] += next.x[c.agg[i]]
+// prolong adds x += P (next.x) on the nodes [lo, hi).
+func (c *gLevel) prolong(next *gLevel, lo, hi int32) {
+	x, invd, agg := c.x[:c.n], c.invd[:c.n], c.agg[:c.n]
+	for i := lo; i < hi; i++ {
+		if invd[i] != 0 && agg[i] >= 0 {
+			x[i] += next.x[agg[i]]
 		}
 	}
 }
@@ -401,8 +533,8 @@ func (s *Solver) vcycle(k int) {
 	clear(c.x[:c.n])
 	if k == len(s.mg)-1 {
 		for range mgCoarseSweeps {
-			c.forward()
-			c.backward()
+			c.forward(0, int32(c.n))
+			c.backward(0, int32(c.n))
 		}
 		return
 	}
@@ -411,14 +543,15 @@ func (s *Solver) vcycle(k int) {
 		sw = mgSweeps1
 	}
 	for range sw {
-		c.forward()
+		s.forwardSweep(c)
 	}
 	next := &s.mg[k+1]
-	c.restrict(next)
+	clear(next.f[:next.n])
+	s.byRange(c, func(lo, hi int32) { c.restrict(next, lo, hi) })
 	s.cycle(k + 1)
-	c.prolong(next)
+	s.byRange(c, func(lo, hi int32) { c.prolong(next, lo, hi) })
 	for range sw {
-		c.backward()
+		s.backwardSweep(c)
 	}
 }
 
@@ -448,13 +581,15 @@ func (s *Solver) cycle(k int) {
 	copy(x1, x)
 	// f − A x1 in place of f.
 	ptr, invd := c.ptr[:n+1], c.invd[:n]
-	for i, m := range invd {
-		if m == 0 {
-			f[i] = 0
-			continue
+	s.byRange(c, func(lo, hi int32) {
+		for i := lo; i < hi; i++ {
+			if m := invd[i]; m == 0 {
+				f[i] = 0
+			} else {
+				f[i] = float32(gsValue(c.col, c.val, x1, ptr[i], ptr[i+1], float64(f[i])-float64(x1[i])/float64(m)))
+			}
 		}
-		f[i] = float32(gsValue(c.col, c.val, x1, ptr[i], ptr[i+1], float64(f[i])-float64(x1[i])/float64(m)))
-	}
+	})
 	s.vcycle(k)
 	for i := range n {
 		x[i] = x1[i] + mgTwoStepOmega*x[i]
@@ -687,6 +822,7 @@ func (s *Solver) mgBuild() {
 	sc.diag[0] = grow(sc.diag[0], nc)
 	c.diag = sc.diag[0]
 	s.assembleFine(c, nc)
+	c.setSlabs()
 	for {
 		c := &s.mg[len(s.mg)-1]
 		if c.n <= mgCoarsestLen || c.dims == [3]int{1, 1, 1} {
@@ -711,6 +847,7 @@ func (s *Solver) mgBuild() {
 		sc.diag[k&1] = grow(sc.diag[k&1], nn)
 		next.diag = sc.diag[k&1]
 		next.assemble(nn, c)
+		next.setSlabs()
 	}
 }
 
