@@ -32,10 +32,18 @@ type Engine struct {
 	rxOfD   []int                  // reaction index for phases with one reaction, −1 otherwise
 	seq     [kinetics.NumIDs][]int // reaction indices of kinetics.Sequence, by primary phase
 	cls     []uint16               // class of each voxel, d*classesPerPhase + exposure, or noClass
-	slot    []int32
-	sets    [][]int32 // d*classesPerPhase + exposure class → members
-	sumW    []int     // per d: Σ faces touching water
-	sumH    []int     // per d: Σ faces touching hydrate (product)
+	// solidNb holds, per voxel, a bit for each face direction k (the order
+	// of Grid.Neighbours) whose neighbour is not pore water: 0 means six
+	// water neighbours. setPhase keeps it current; the walk reads it in
+	// place of the neighbours' phases.
+	solidNb []uint8
+	// dim and stride are the lattice's edge lengths and index strides by
+	// axis, for the walk.
+	dim, stride [3]int
+	slot        []int32
+	sets        [][]int32 // d*classesPerPhase + exposure class → members
+	sumW        []int     // per d: Σ faces touching water
+	sumH        []int     // per d: Σ faces touching hydrate (product)
 	// bulk is S_v·h for a sub-voxel powder (kinetics.Dissolution
 	// SurfacePerUM): the faces' worth of surface in each of its voxels; 0
 	// for the face law. nAccW and nAccH count, per d, the exposed voxels
@@ -135,6 +143,23 @@ type stickRule struct {
 	on, seeded [kinetics.NumIDs]float32
 	seed       [kinetics.NumIDs]bool
 	hasSeeds   bool
+	// inWaterVal is the rule's value for six pore-water neighbours (the
+	// walk's stickValue for a voxel with solidNb 0); finish sets it.
+	inWaterVal float32
+}
+
+// finish sets the rule's derived fields from its tables.
+func (r *stickRule) finish() {
+	var best float32
+	if v := r.on[kinetics.Water]; v > best {
+		best = v
+	}
+	if r.seed[kinetics.Water] {
+		if v := r.seeded[kinetics.Water]; v > best {
+			best = v
+		}
+	}
+	r.inWaterVal = best
 }
 
 const (
@@ -175,6 +200,8 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		return nil, err
 	}
 	e := &Engine{g: g, p: set.Params, thermal: set.Thermal, sealed: set.Sealed}
+	e.dim = [3]int{g.NX, g.NY, g.NZ}
+	e.stride = [3]int{1, g.NX, g.NX * g.NY}
 	e.voxCM3 = math.Pow(g.VoxelUM*1e-4, 3)
 	scale := 1 / (g.VoxelUM * g.VoxelUM)
 	e.walkSteps = max(1, int(math.Round(float64(e.p.WalkSteps)*scale)))
@@ -243,6 +270,7 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 			r.seed[id] = true
 			r.hasSeeds = true
 		}
+		r.finish()
 		e.rules[gr.Product] = r
 		e.products = append(e.products, gr.Product)
 	}
@@ -251,6 +279,7 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 			e.anySolid.on[ph.ID] = 1
 		}
 	}
+	e.anySolid.finish()
 	rxs := kinetics.Reactions()
 	e.s.Acc = make([][]float64, len(rxs))
 	e.s.Spawned = make([][]int, len(rxs))
@@ -288,6 +317,7 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 	}
 	e.s.PartLeft = append([]int32(nil), e.partInit...)
+	e.buildSolidNb()
 	e.buildClasses()
 	e.arrT = math.NaN()
 	e.arrD = make([]float64, len(e.dph))
@@ -405,15 +435,44 @@ func (e *Engine) reclassify(i int) {
 	}
 }
 
-// setPhase changes voxel i and keeps counts and classes current.
+// buildSolidNb computes solidNb from the lattice.
+func (e *Engine) buildSolidNb() {
+	n := e.g.Len()
+	if cap(e.solidNb) >= n {
+		e.solidNb = e.solidNb[:n]
+	} else {
+		e.solidNb = make([]uint8, n)
+	}
+	ph := e.g.Phase
+	var nb [6]int
+	for i := 0; i < n; i++ {
+		e.g.Neighbours(i, &nb)
+		var m uint8
+		for k, j := range nb {
+			if ph[j] != kinetics.Water {
+				m |= 1 << k
+			}
+		}
+		e.solidNb[i] = m
+	}
+}
+
+// setPhase changes voxel i and keeps counts, classes and solidNb current.
 func (e *Engine) setPhase(i int, id kinetics.ID) {
 	old := e.g.Phase[i]
 	e.s.Count[old]--
 	e.s.Count[id]++
 	e.g.Phase[i] = id
-	e.reclassify(i)
 	var nb [6]int
 	e.g.Neighbours(i, &nb)
+	if (old == kinetics.Water) != (id == kinetics.Water) {
+		// Voxel i is the neighbour in direction k^1 of its neighbour in
+		// direction k (also when a short edge makes them repeat).
+		for k, j := range nb {
+			e.solidNb[j] ^= 1 << (k ^ 1)
+		}
+	}
+	e.reclassify(i)
 	for _, j := range nb {
 		if e.dOf[e.g.Phase[j]] >= 0 {
 			e.reclassify(j)
