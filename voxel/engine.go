@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/bits"
 	"math/rand/v2"
 
 	"gelspace/kinetics"
@@ -368,18 +369,18 @@ func (e *Engine) buildClasses() {
 }
 
 func (e *Engine) exposure(i int) (w, h int) {
+	m := e.solidNb[i]
+	w = 6 - bits.OnesCount8(m)
+	if m == 0 {
+		return
+	}
 	var nb [6]int
 	e.g.Neighbours(i, &nb)
-	for _, j := range nb {
-		switch e.g.Phase[j] {
-		case kinetics.Water:
-			w++
-		default:
-			// Any hydrate is product the voxel can dissolve through: a
-			// voxel buried in CH, AFt or AFm is never stranded.
-			if kinetics.IsHydrate(e.g.Phase[j]) {
-				h++
-			}
+	for ; m != 0; m &= m - 1 {
+		// Any hydrate is product the voxel can dissolve through: a voxel
+		// buried in CH, AFt or AFm is never stranded.
+		if kinetics.IsHydrate(e.g.Phase[nb[bits.TrailingZeros8(m)]]) {
+			h++
 		}
 	}
 	return

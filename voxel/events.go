@@ -21,14 +21,20 @@ const (
 func (e *Engine) AdvanceTo(untilH float64) error {
 	stop := untilH * 3600
 	for e.s.TimeS < stop {
+		// The rates are a function of the state and of the temperature:
+		// when the clock's step leaves the temperature as it was, the
+		// rates drawn for the step are those at its end too.
+		var total float64
+		fresh := false
 		if !e.s.Pending {
-			total := e.computeRates()
+			total = e.computeRates()
 			if total <= 0 || math.IsNaN(total) {
 				e.s.TimeS = stop
 				return nil
 			}
 			e.s.NextS = e.s.TimeS - math.Log(1-e.r.Float64())/total
 			e.s.Pending = true
+			fresh = true
 		}
 		if e.s.NextS > stop {
 			e.s.TimeS = stop
@@ -36,7 +42,9 @@ func (e *Engine) AdvanceTo(untilH float64) error {
 		}
 		e.s.TimeS = e.s.NextS
 		e.s.Pending = false
-		total := e.computeRates()
+		if !fresh || e.TempC() != e.arrT {
+			total = e.computeRates()
+		}
 		if total <= 0 {
 			continue
 		}

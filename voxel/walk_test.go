@@ -95,6 +95,32 @@ func checkSolidNb(t *testing.T, e *Engine, when string) {
 	}
 }
 
+// exposureRef counts the water and hydrate neighbours of voxel i from the
+// lattice.
+func (e *Engine) exposureRef(i int) (w, h int) {
+	var nb [6]int
+	e.g.Neighbours(i, &nb)
+	for _, j := range nb {
+		if q := e.g.Phase[j]; q == kinetics.Water {
+			w++
+		} else if kinetics.IsHydrate(q) {
+			h++
+		}
+	}
+	return
+}
+
+// checkExposure compares exposure with exposureRef at every voxel.
+func checkExposure(t *testing.T, e *Engine, when string) {
+	t.Helper()
+	for i := range e.g.Phase {
+		w, h := e.exposure(i)
+		if rw, rh := e.exposureRef(i); w != rw || h != rh {
+			t.Fatalf("%s: exposure of voxel %d is (%d, %d), the lattice gives (%d, %d)", when, i, w, h, rw, rh)
+		}
+	}
+}
+
 // smallEngine returns an engine on a random nx×ny×nz lattice of water,
 // C3S, gypsum, C-S-H and empty voxels.
 func smallEngine(t *testing.T, nx, ny, nz int, seed uint64) *Engine {
@@ -124,6 +150,7 @@ func TestSolidNbKept(t *testing.T) {
 		for k := 0; k < 400; k++ {
 			e.setPhase(r.IntN(e.g.Len()), ids[r.IntN(len(ids))])
 			checkSolidNb(t, e, "after setPhase")
+			checkExposure(t, e, "after setPhase")
 		}
 		c := e.Clone()
 		checkSolidNb(t, c, "clone")
