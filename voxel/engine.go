@@ -78,6 +78,11 @@ type Engine struct {
 	// partInit is the number of anhydrous voxels of each grain at the start,
 	// by particle id.
 	partInit []int32
+	// partR0 is, by particle id, the radius in voxels of a sphere of the
+	// grain's initial anhydrous volume (for accept).
+	partR0 []float64
+	// divX and divY divide by the lattice's edges NX and NY (coords).
+	divX, divY divider
 	// guard, when set, is called every GuardEvery events (see SetGuard).
 	guard func(events uint64, timeS float64) error
 	// cc caches sums over the carried coarse grains (coarse.go); kappa is
@@ -318,6 +323,8 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 	}
 	e.s.PartLeft = append([]int32(nil), e.partInit...)
+	e.setPartR0()
+	e.divX, e.divY = newDivider(g.NX), newDivider(g.NY)
 	e.buildSolidNb()
 	e.buildClasses()
 	e.arrT = math.NaN()
@@ -326,6 +333,74 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	e.rates = make([]float64, 2*len(e.dph)+2+len(e.products))
 	e.kappa = sphereFaceRatio()
 	return e, nil
+}
+
+// setPartR0 sets partR0 from partInit.
+func (e *Engine) setPartR0() {
+	e.partR0 = make([]float64, len(e.partInit))
+	for p, n := range e.partInit {
+		e.partR0[p] = math.Cbrt(3 * float64(n) / (4 * math.Pi))
+	}
+}
+
+// divider divides integers below 2³² by a fixed positive d with a
+// multiplication: with c = ⌈2⁶⁴/d⌉, n/d is the high word of c·n for every
+// n < 2³² (Lemire, Kaser and Kurz, "Faster remainder by direct
+// computation", 2019, from memory). The lattice holds at most 2³⁰ voxels.
+type divider struct {
+	c uint64 // 0 for d = 1
+	d int
+}
+
+func newDivider(d int) divider {
+	if d == 1 {
+		return divider{d: 1}
+	}
+	return divider{c: ^uint64(0)/uint64(d) + 1, d: d}
+}
+
+// divMod returns n/d and n%d for 0 ≤ n < 2³².
+func (v divider) divMod(n int) (int, int) {
+	if v.c == 0 {
+		return n, 0
+	}
+	q, _ := bits.Mul64(v.c, uint64(n))
+	return int(q), n - int(q)*v.d
+}
+
+// coords is Grid.Coords without a division.
+func (e *Engine) coords(i int) (x, y, z int) {
+	q, x := e.divX.divMod(i)
+	z, y = e.divY.divMod(q)
+	return x, y, z
+}
+
+// neighbours is Grid.Neighbours without a division.
+func (e *Engine) neighbours(i int, nb *[6]int) {
+	x, y, z := e.coords(i)
+	nx, ny, nz := e.g.NX, e.g.NY, e.g.NZ
+	row, plane := nx, nx*ny
+	nb[0], nb[1] = i-1, i+1
+	if x == 0 {
+		nb[0] = i + nx - 1
+	}
+	if x == nx-1 {
+		nb[1] = i - nx + 1
+	}
+	nb[2], nb[3] = i-row, i+row
+	if y == 0 {
+		nb[2] = i + row*(ny-1)
+	}
+	if y == ny-1 {
+		nb[3] = i - row*(ny-1)
+	}
+	nb[4], nb[5] = i-plane, i+plane
+	if z == 0 {
+		nb[4] = i + plane*(nz-1)
+	}
+	if z == nz-1 {
+		nb[5] = i - plane*(nz-1)
+	}
 }
 
 // setCementMass computes the mass of the cement as tested at the start:
@@ -375,7 +450,7 @@ func (e *Engine) exposure(i int) (w, h int) {
 		return
 	}
 	var nb [6]int
-	e.g.Neighbours(i, &nb)
+	e.neighbours(i, &nb)
 	for ; m != 0; m &= m - 1 {
 		// Any hydrate is product the voxel can dissolve through: a voxel
 		// buried in CH, AFt or AFm is never stranded.
@@ -465,7 +540,7 @@ func (e *Engine) setPhase(i int, id kinetics.ID) {
 	e.s.Count[id]++
 	e.g.Phase[i] = id
 	var nb [6]int
-	e.g.Neighbours(i, &nb)
+	e.neighbours(i, &nb)
 	if (old == kinetics.Water) != (id == kinetics.Water) {
 		// Voxel i is the neighbour in direction k^1 of its neighbour in
 		// direction k (also when a short edge makes them repeat).

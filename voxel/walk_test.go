@@ -235,3 +235,40 @@ func TestWalkMatchesRef(t *testing.T) {
 		t.Errorf("only %d walks started shut in by six solid neighbours", shutIn)
 	}
 }
+
+// TestDividerAndNeighbours checks the engine's division-free coords and
+// neighbours against Grid's, and the divider on edge values.
+func TestDividerAndNeighbours(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	for _, d := range []int{1, 2, 3, 7, 100, 200, 255, 1000, 1024, 1 << 15, 40000, 1<<30 - 1} {
+		v := newDivider(d)
+		for k := 0; k < 20000; k++ {
+			n := int(r.Uint32())
+			switch k {
+			case 0:
+				n = 0
+			case 1:
+				n = 1<<32 - 1
+			case 2:
+				n = d - 1
+			case 3:
+				n = d
+			}
+			if q, m := v.divMod(n); q != n/d || m != n%d {
+				t.Fatalf("%d / %d: divider gives %d rem %d", n, d, q, m)
+			}
+		}
+	}
+	for _, dims := range [][3]int{{1, 1, 1}, {1, 2, 3}, {2, 2, 2}, {3, 1, 4}, {5, 4, 3}, {13, 7, 2}} {
+		e := smallEngine(t, dims[0], dims[1], dims[2], 9)
+		var a, b [6]int
+		for i := range e.g.Phase {
+			e.neighbours(i, &a)
+			e.g.Neighbours(i, &b)
+			x, y, z := e.coords(i)
+			if gx, gy, gz := e.g.Coords(i); a != b || x != gx || y != gy || z != gz {
+				t.Fatalf("box %v voxel %d: neighbours %v coords (%d %d %d), the grid's %v (%d %d %d)", dims, i, a, x, y, z, b, gx, gy, gz)
+			}
+		}
+	}
+}
