@@ -176,6 +176,7 @@ func (e *Engine) Clone() *Engine {
 	c.cls = append([]uint16(nil), e.cls...)
 	c.slot = append([]int32(nil), e.slot...)
 	c.solidNb = append([]uint8(nil), e.solidNb...)
+	c.hydNb = append([]uint8(nil), e.hydNb...)
 	c.sets = make([][]int32, len(e.sets))
 	for k, s := range e.sets {
 		c.sets[k] = append(make([]int32, 0, cap(s)), s...)

@@ -38,6 +38,9 @@ type Engine struct {
 	// water neighbours. setPhase keeps it current; the walk reads it in
 	// place of the neighbours' phases.
 	solidNb []uint8
+	// hydNb holds the same bits for the face neighbours that are hydrates
+	// (kinetics.IsHydrate), for exposure.
+	hydNb []uint8
 	// dim and stride are the lattice's edge lengths and index strides by
 	// axis, for the walk.
 	dim, stride [3]int
@@ -444,21 +447,9 @@ func (e *Engine) buildClasses() {
 }
 
 func (e *Engine) exposure(i int) (w, h int) {
-	m := e.solidNb[i]
-	w = 6 - bits.OnesCount8(m)
-	if m == 0 {
-		return
-	}
-	var nb [6]int
-	e.neighbours(i, &nb)
-	for ; m != 0; m &= m - 1 {
-		// Any hydrate is product the voxel can dissolve through: a voxel
-		// buried in CH, AFt or AFm is never stranded.
-		if kinetics.IsHydrate(e.g.Phase[nb[bits.TrailingZeros8(m)]]) {
-			h++
-		}
-	}
-	return
+	// Any hydrate is product the voxel can dissolve through: a voxel
+	// buried in CH, AFt or AFm is never stranded.
+	return 6 - bits.OnesCount8(e.solidNb[i]), bits.OnesCount8(e.hydNb[i])
 }
 
 // reclassify moves voxel i to the class its phase and exposure call for.
@@ -511,25 +502,25 @@ func (e *Engine) reclassify(i int) {
 	}
 }
 
-// buildSolidNb computes solidNb from the lattice.
+// buildSolidNb computes solidNb and hydNb from the lattice.
 func (e *Engine) buildSolidNb() {
 	n := e.g.Len()
-	if cap(e.solidNb) >= n {
-		e.solidNb = e.solidNb[:n]
-	} else {
-		e.solidNb = make([]uint8, n)
-	}
+	e.solidNb = make([]uint8, n)
+	e.hydNb = make([]uint8, n)
 	ph := e.g.Phase
 	var nb [6]int
 	for i := 0; i < n; i++ {
 		e.g.Neighbours(i, &nb)
-		var m uint8
+		var m, h uint8
 		for k, j := range nb {
 			if ph[j] != kinetics.Water {
 				m |= 1 << k
 			}
+			if kinetics.IsHydrate(ph[j]) {
+				h |= 1 << k
+			}
 		}
-		e.solidNb[i] = m
+		e.solidNb[i], e.hydNb[i] = m, h
 	}
 }
 
@@ -541,11 +532,16 @@ func (e *Engine) setPhase(i int, id kinetics.ID) {
 	e.g.Phase[i] = id
 	var nb [6]int
 	e.neighbours(i, &nb)
+	// Voxel i is the neighbour in direction k^1 of its neighbour in
+	// direction k (also when a short edge makes them repeat).
 	if (old == kinetics.Water) != (id == kinetics.Water) {
-		// Voxel i is the neighbour in direction k^1 of its neighbour in
-		// direction k (also when a short edge makes them repeat).
 		for k, j := range nb {
 			e.solidNb[j] ^= 1 << (k ^ 1)
+		}
+	}
+	if kinetics.IsHydrate(old) != kinetics.IsHydrate(id) {
+		for k, j := range nb {
+			e.hydNb[j] ^= 1 << (k ^ 1)
 		}
 	}
 	e.reclassify(i)

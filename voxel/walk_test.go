@@ -85,7 +85,11 @@ func (e *Engine) sticksAtRef(nb *[6]int, r *stickRule) bool {
 func checkSolidNb(t *testing.T, e *Engine, when string) {
 	t.Helper()
 	want := append([]uint8(nil), e.solidNb...)
+	hyd := append([]uint8(nil), e.hydNb...)
 	e.buildSolidNb()
+	if !bytes.Equal(hyd, e.hydNb) {
+		t.Fatalf("%s: hydNb differs from a recomputation", when)
+	}
 	if !bytes.Equal(want, e.solidNb) {
 		for i := range want {
 			if want[i] != e.solidNb[i] {
