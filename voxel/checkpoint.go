@@ -129,7 +129,6 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 	e.g = g
 	e.buildSolidNb()
 	e.partInit = d.PartInit
-	e.setPartR0()
 	e.s = d.State
 	e.setCementMass()
 	if len(d.Sets) != len(e.sets) {

@@ -81,9 +81,6 @@ type Engine struct {
 	// partInit is the number of anhydrous voxels of each grain at the start,
 	// by particle id.
 	partInit []int32
-	// partR0 is, by particle id, the radius in voxels of a sphere of the
-	// grain's initial anhydrous volume (for accept).
-	partR0 []float64
 	// divX and divY divide by the lattice's edges NX and NY (coords).
 	divX, divY divider
 	// guard, when set, is called every GuardEvery events (see SetGuard).
@@ -326,7 +323,6 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 	}
 	e.s.PartLeft = append([]int32(nil), e.partInit...)
-	e.setPartR0()
 	e.divX, e.divY = newDivider(g.NX), newDivider(g.NY)
 	e.buildSolidNb()
 	e.buildClasses()
@@ -336,14 +332,6 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	e.rates = make([]float64, 2*len(e.dph)+2+len(e.products))
 	e.kappa = sphereFaceRatio()
 	return e, nil
-}
-
-// setPartR0 sets partR0 from partInit.
-func (e *Engine) setPartR0() {
-	e.partR0 = make([]float64, len(e.partInit))
-	for p, n := range e.partInit {
-		e.partR0[p] = math.Cbrt(3 * float64(n) / (4 * math.Pi))
-	}
 }
 
 // divider divides integers below 2³² by a fixed positive d with a

@@ -288,7 +288,8 @@ func (e *Engine) accept(i, d int) bool {
 	w := float64(triW[c])
 	f := 1.0
 	if p := e.g.Particle[i]; p > 0 && int(p) < len(e.partInit) && e.partInit[p] > 0 {
-		depth := e.partR0[p] * (1 - math.Cbrt(float64(e.s.PartLeft[p])/float64(e.partInit[p]))) * e.g.VoxelUM
+		r0 := math.Cbrt(3 * float64(e.partInit[p]) / (4 * math.Pi))
+		depth := r0 * (1 - math.Cbrt(float64(e.s.PartLeft[p])/float64(e.partInit[p]))) * e.g.VoxelUM
 		f = 1 / (1 + depth/e.delta0)
 	}
 	bound := w + e.beta[d]*h
