@@ -129,6 +129,7 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 		return nil, nil, err
 	}
 	e.g = g
+	e.buildSolidNb()
 	e.partInit = d.PartInit
 	e.s = d.State
 	e.setCementMass()
@@ -181,6 +182,8 @@ func (e *Engine) Clone() *Engine {
 	c.g = &g
 	c.cls = append([]uint16(nil), e.cls...)
 	c.slot = append([]int32(nil), e.slot...)
+	c.solidNb = append([]uint8(nil), e.solidNb...)
+	c.hydNb = append([]uint8(nil), e.hydNb...)
 	c.sets = make([][]int32, len(e.sets))
 	for k, s := range e.sets {
 		c.sets[k] = append(make([]int32, 0, cap(s)), s...)

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/bits"
 	"math/rand/v2"
 
 	"gelspace/kinetics"
@@ -32,10 +33,21 @@ type Engine struct {
 	rxOfD   []int                  // reaction index for phases with one reaction, −1 otherwise
 	seq     [kinetics.NumIDs][]int // reaction indices of kinetics.Sequence, by primary phase
 	cls     []uint16               // class of each voxel, d*classesPerPhase + exposure, or noClass
-	slot    []int32
-	sets    [][]int32 // d*classesPerPhase + exposure class → members
-	sumW    []int     // per d: Σ faces touching water
-	sumH    []int     // per d: Σ faces touching hydrate (product)
+	// solidNb holds, per voxel, a bit for each face direction k (the order
+	// of Grid.Neighbours) whose neighbour is not pore water: 0 means six
+	// water neighbours. setPhase keeps it current; the walk reads it in
+	// place of the neighbours' phases.
+	solidNb []uint8
+	// hydNb holds the same bits for the face neighbours that are hydrates
+	// (kinetics.IsHydrate), for exposure.
+	hydNb []uint8
+	// dim and stride are the lattice's edge lengths and index strides by
+	// axis, for the walk.
+	dim, stride [3]int
+	slot        []int32
+	sets        [][]int32 // d*classesPerPhase + exposure class → members
+	sumW        []int     // per d: Σ faces touching water
+	sumH        []int     // per d: Σ faces touching hydrate (product)
 	// bulk is S_v·h for a sub-voxel powder (kinetics.Dissolution
 	// SurfacePerUM): the faces' worth of surface in each of its voxels; 0
 	// for the face law. nAccW and nAccH count, per d, the exposed voxels
@@ -69,6 +81,8 @@ type Engine struct {
 	// partInit is the number of anhydrous voxels of each grain at the start,
 	// by particle id.
 	partInit []int32
+	// divX and divY divide by the lattice's edges NX and NY (coords).
+	divX, divY divider
 	// guard, when set, is called every GuardEvery events (see SetGuard).
 	guard func(events uint64, timeS float64) error
 	// cc caches sums over the carried coarse grains (coarse.go); kappa is
@@ -135,6 +149,23 @@ type stickRule struct {
 	on, seeded [kinetics.NumIDs]float32
 	seed       [kinetics.NumIDs]bool
 	hasSeeds   bool
+	// inWaterVal is the rule's value for six pore-water neighbours (the
+	// walk's stickValue for a voxel with solidNb 0); finish sets it.
+	inWaterVal float32
+}
+
+// finish sets the rule's derived fields from its tables.
+func (r *stickRule) finish() {
+	var best float32
+	if v := r.on[kinetics.Water]; v > best {
+		best = v
+	}
+	if r.seed[kinetics.Water] {
+		if v := r.seeded[kinetics.Water]; v > best {
+			best = v
+		}
+	}
+	r.inWaterVal = best
 }
 
 const (
@@ -177,6 +208,8 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		return nil, err
 	}
 	e := &Engine{g: g, p: set.Params, thermal: set.Thermal, sealed: set.Sealed}
+	e.dim = [3]int{g.NX, g.NY, g.NZ}
+	e.stride = [3]int{1, g.NX, g.NX * g.NY}
 	e.voxCM3 = math.Pow(g.VoxelUM*1e-4, 3)
 	scale := 1 / (g.VoxelUM * g.VoxelUM)
 	e.walkSteps = max(1, int(math.Round(float64(e.p.WalkSteps)*scale)))
@@ -245,6 +278,7 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 			r.seed[id] = true
 			r.hasSeeds = true
 		}
+		r.finish()
 		e.rules[gr.Product] = r
 		e.products = append(e.products, gr.Product)
 	}
@@ -253,6 +287,7 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 			e.anySolid.on[ph.ID] = 1
 		}
 	}
+	e.anySolid.finish()
 	rxs := kinetics.Reactions()
 	e.s.Acc = make([][]float64, len(rxs))
 	e.s.Spawned = make([][]int, len(rxs))
@@ -290,6 +325,8 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 		}
 	}
 	e.s.PartLeft = append([]int32(nil), e.partInit...)
+	e.divX, e.divY = newDivider(g.NX), newDivider(g.NY)
+	e.buildSolidNb()
 	e.buildClasses()
 	e.arrT = math.NaN()
 	e.arrD = make([]float64, len(e.dph))
@@ -297,6 +334,66 @@ func NewEngine(g *Grid, set EngineSettings) (*Engine, error) {
 	e.rates = make([]float64, 2*len(e.dph)+2+len(e.products))
 	e.kappa = sphereFaceRatio()
 	return e, nil
+}
+
+// divider divides integers below 2³² by a fixed positive d with a
+// multiplication: with c = ⌈2⁶⁴/d⌉, n/d is the high word of c·n for every
+// n < 2³² (Lemire, Kaser and Kurz, "Faster remainder by direct
+// computation", 2019, from memory). The lattice holds at most 2³⁰ voxels.
+type divider struct {
+	c uint64 // 0 for d = 1
+	d int
+}
+
+func newDivider(d int) divider {
+	if d == 1 {
+		return divider{d: 1}
+	}
+	return divider{c: ^uint64(0)/uint64(d) + 1, d: d}
+}
+
+// divMod returns n/d and n%d for 0 ≤ n < 2³².
+func (v divider) divMod(n int) (int, int) {
+	if v.c == 0 {
+		return n, 0
+	}
+	q, _ := bits.Mul64(v.c, uint64(n))
+	return int(q), n - int(q)*v.d
+}
+
+// coords is Grid.Coords without a division.
+func (e *Engine) coords(i int) (x, y, z int) {
+	q, x := e.divX.divMod(i)
+	z, y = e.divY.divMod(q)
+	return x, y, z
+}
+
+// neighbours is Grid.Neighbours without a division.
+func (e *Engine) neighbours(i int, nb *[6]int) {
+	x, y, z := e.coords(i)
+	nx, ny, nz := e.g.NX, e.g.NY, e.g.NZ
+	row, plane := nx, nx*ny
+	nb[0], nb[1] = i-1, i+1
+	if x == 0 {
+		nb[0] = i + nx - 1
+	}
+	if x == nx-1 {
+		nb[1] = i - nx + 1
+	}
+	nb[2], nb[3] = i-row, i+row
+	if y == 0 {
+		nb[2] = i + row*(ny-1)
+	}
+	if y == ny-1 {
+		nb[3] = i - row*(ny-1)
+	}
+	nb[4], nb[5] = i-plane, i+plane
+	if z == 0 {
+		nb[4] = i + plane*(nz-1)
+	}
+	if z == nz-1 {
+		nb[5] = i - plane*(nz-1)
+	}
 }
 
 // setCementMass computes the mass of the cement as tested at the start:
@@ -340,21 +437,9 @@ func (e *Engine) buildClasses() {
 }
 
 func (e *Engine) exposure(i int) (w, h int) {
-	var nb [6]int
-	e.g.Neighbours(i, &nb)
-	for _, j := range nb {
-		switch e.g.Phase[j] {
-		case kinetics.Water:
-			w++
-		default:
-			// Any hydrate is product the voxel can dissolve through: a
-			// voxel buried in CH, AFt or AFm is never stranded.
-			if kinetics.IsHydrate(e.g.Phase[j]) {
-				h++
-			}
-		}
-	}
-	return
+	// Any hydrate is product the voxel can dissolve through: a voxel
+	// buried in CH, AFt or AFm is never stranded.
+	return 6 - bits.OnesCount8(e.solidNb[i]), bits.OnesCount8(e.hydNb[i])
 }
 
 // reclassify moves voxel i to the class its phase and exposure call for.
@@ -407,15 +492,49 @@ func (e *Engine) reclassify(i int) {
 	}
 }
 
-// setPhase changes voxel i and keeps counts and classes current.
+// buildSolidNb computes solidNb and hydNb from the lattice.
+func (e *Engine) buildSolidNb() {
+	n := e.g.Len()
+	e.solidNb = make([]uint8, n)
+	e.hydNb = make([]uint8, n)
+	ph := e.g.Phase
+	var nb [6]int
+	for i := 0; i < n; i++ {
+		e.g.Neighbours(i, &nb)
+		var m, h uint8
+		for k, j := range nb {
+			if ph[j] != kinetics.Water {
+				m |= 1 << k
+			}
+			if kinetics.IsHydrate(ph[j]) {
+				h |= 1 << k
+			}
+		}
+		e.solidNb[i], e.hydNb[i] = m, h
+	}
+}
+
+// setPhase changes voxel i and keeps counts, classes and solidNb current.
 func (e *Engine) setPhase(i int, id kinetics.ID) {
 	old := e.g.Phase[i]
 	e.s.Count[old]--
 	e.s.Count[id]++
 	e.g.Phase[i] = id
-	e.reclassify(i)
 	var nb [6]int
-	e.g.Neighbours(i, &nb)
+	e.neighbours(i, &nb)
+	// Voxel i is the neighbour in direction k^1 of its neighbour in
+	// direction k (also when a short edge makes them repeat).
+	if (old == kinetics.Water) != (id == kinetics.Water) {
+		for k, j := range nb {
+			e.solidNb[j] ^= 1 << (k ^ 1)
+		}
+	}
+	if kinetics.IsHydrate(old) != kinetics.IsHydrate(id) {
+		for k, j := range nb {
+			e.hydNb[j] ^= 1 << (k ^ 1)
+		}
+	}
+	e.reclassify(i)
 	for _, j := range nb {
 		if e.dOf[e.g.Phase[j]] >= 0 {
 			e.reclassify(j)

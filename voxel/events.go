@@ -3,6 +3,7 @@ package voxel
 import (
 	"fmt"
 	"math"
+	mbits "math/bits"
 
 	"gelspace/kinetics"
 )
@@ -20,14 +21,20 @@ const (
 func (e *Engine) AdvanceTo(untilH float64) error {
 	stop := untilH * 3600
 	for e.s.TimeS < stop {
+		// The rates are a function of the state and of the temperature:
+		// when the clock's step leaves the temperature as it was, the
+		// rates drawn for the step are those at its end too.
+		var total float64
+		fresh := false
 		if !e.s.Pending {
-			total := e.computeRates()
+			total = e.computeRates()
 			if total <= 0 || math.IsNaN(total) {
 				e.s.TimeS = stop
 				return nil
 			}
 			e.s.NextS = e.s.TimeS - math.Log(1-e.r.Float64())/total
 			e.s.Pending = true
+			fresh = true
 		}
 		if e.s.NextS > stop {
 			e.s.TimeS = stop
@@ -35,7 +42,9 @@ func (e *Engine) AdvanceTo(untilH float64) error {
 		}
 		e.s.TimeS = e.s.NextS
 		e.s.Pending = false
-		total := e.computeRates()
+		if !fresh || e.TempC() != e.arrT {
+			total = e.computeRates()
+		}
 		if total <= 0 {
 			continue
 		}
@@ -470,108 +479,158 @@ func (e *Engine) withdraw(id kinetics.ID, mol float64) {
 // walk moves a dissolved unit of product q from pos through pore water for
 // up to steps steps and precipitates it where it sticks. It returns the
 // final position and whether the unit precipitated. This is the hot loop of
-// the engine: it tracks coordinates to avoid divisions and draws three
-// random bits per step.
+// the engine. It tracks coordinates to avoid divisions and draws three
+// random bits per step (rejecting 6 and 7). It reads the voxel's solidNb
+// bits rather than its neighbours' phases, which it reads only where a bit
+// says they are not water; and as the lattice does not change while the
+// unit walks, the sticking value of a voxel is computed once for the steps
+// the unit stays there (a move into a solid is blocked). A unit shut in by
+// six solid neighbours that cannot stick there only uses up its remaining
+// steps' random bits, which walk skips over a word at a time. The random
+// numbers drawn, and their order, are those of a walk that tests the six
+// neighbours at every step.
 func (e *Engine) walk(pos int32, rule *stickRule, q kinetics.ID, steps int) (int32, bool) {
 	g := e.g
-	ph := g.Phase
-	if ph[pos] != kinetics.Water {
+	if g.Phase[pos] != kinetics.Water {
 		p, ok := e.relocate(int(pos))
 		if !ok {
 			return pos, false
 		}
 		pos = int32(p)
 	}
-	nx, ny, nz := g.NX, g.NY, g.NZ
-	plane := nx * ny
 	x, y, z := g.Coords(int(pos))
-	c := [3]int{x, y, z} // coordinates, moved by table rather than a switch on the direction
+	c := [3]int{x, y, z}
+	i := int(pos)
+	solid := e.solidNb
 	var bits uint64
 	nbits := 0
-	var nb [6]int
-	for s := 0; ; s++ {
-		x, y, z := c[0], c[1], c[2]
-		i := x + nx*y + plane*z
-		row, pl := nx*y, plane*z
-		xm, xp := x-1, x+1
-		if xm < 0 {
-			xm = nx - 1
+	s := 0
+	for {
+		// At voxel i, after s steps.
+		m := solid[i]
+		best := rule.inWaterVal
+		if m != 0 {
+			best = e.stickValue(i, &c, m, rule)
 		}
-		if xp == nx {
-			xp = 0
-		}
-		ym, yp := y-1, y+1
-		if ym < 0 {
-			ym = ny - 1
-		}
-		if yp == ny {
-			yp = 0
-		}
-		zm, zp := z-1, z+1
-		if zm < 0 {
-			zm = nz - 1
-		}
-		if zp == nz {
-			zp = 0
-		}
-		nb[0], nb[1] = xm+row+pl, xp+row+pl
-		nb[2], nb[3] = x+nx*ym+pl, x+nx*yp+pl
-		nb[4], nb[5] = x+row+plane*zm, x+row+plane*zp
-		if e.sticksAt(&nb, rule) {
-			e.precipitate(i, q)
-			e.s.Steps += uint64(s)
-			return int32(i), true
-		}
-		if s == steps {
-			e.s.Steps += uint64(s)
+		if m == 0x3f && best <= 0 {
+			// Shut in: no move can succeed and nothing sticks.
+			e.skipSteps(bits, nbits, steps-s)
+			e.s.Steps += uint64(steps)
 			return int32(i), false
 		}
-		var dir int
 		for {
-			if nbits < 3 {
-				bits, nbits = e.r.Uint64(), 64
+			if best > 0 && (best >= 1 || e.r.Float32() < best) {
+				e.precipitate(i, q)
+				e.s.Steps += uint64(s)
+				return int32(i), true
 			}
-			dir = int(bits & 7)
-			bits >>= 3
-			nbits -= 3
-			if dir < 6 {
+			if s == steps {
+				e.s.Steps += uint64(s)
+				return int32(i), false
+			}
+			s++
+			var dir int
+			for {
+				if nbits < 3 {
+					bits, nbits = e.r.Uint64(), 64
+				}
+				dir = int(bits & 7)
+				bits >>= 3
+				nbits -= 3
+				if dir < 6 {
+					break
+				}
+			}
+			if m>>dir&1 == 0 { // not blocked by a solid or empty voxel
+				i = e.step(i, &c, dir)
 				break
 			}
 		}
-		if ph[nb[dir]] != kinetics.Water {
-			continue
-		}
-		to := [6]int{xm, xp, ym, yp, zm, zp}
-		c[dir>>1] = to[dir]
 	}
 }
 
-// sticksAt decides whether a unit at a pore-water voxel with face
-// neighbours nb precipitates there.
-func (e *Engine) sticksAt(nb *[6]int, r *stickRule) bool {
-	ph := e.g.Phase
+// step returns the neighbour of voxel i at coordinates c in direction dir
+// (the order of Grid.Neighbours) and moves c there.
+func (e *Engine) step(i int, c *[3]int, dir int) int {
+	a := dir >> 1
+	old := c[a]
+	nc := old + 2*(dir&1) - 1
+	if nc < 0 {
+		nc = e.dim[a] - 1
+	} else if nc == e.dim[a] {
+		nc = 0
+	}
+	c[a] = nc
+	return i + (nc-old)*e.stride[a]
+}
+
+// skipSteps draws the random bits of n more steps of a walk that cannot
+// move, given the bits left over: each step takes three bits, and a step
+// that draws 6 or 7 draws again.
+func (e *Engine) skipSteps(bits uint64, nbits, n int) {
+	for ; n > 0 && nbits >= 3; nbits -= 3 {
+		if bits&7 < 6 {
+			n--
+		}
+		bits >>= 3
+	}
+	// A word gives 21 groups of three bits (its top bit is left); a group
+	// is rejected when its two high bits are set.
+	const low = 0x1249249249249249 // bit 0 of each group
+	for n > 0 {
+		w := e.r.Uint64()
+		n -= 21 - mbits.OnesCount64(w>>1&(w>>2)&low)
+	}
+}
+
+// stickValue returns the probability that a unit sticks at pore-water
+// voxel i, at coordinates c and with solidNb bits m ≠ 0: the maximum over
+// the neighbours of the rule's value of their phase, or of its seeded
+// value when a neighbour is a seed. It reads the phases of the neighbours
+// that are not water only: water has the same value at every neighbour,
+// and the maximum does not depend on the order.
+func (e *Engine) stickValue(i int, c *[3]int, m uint8, r *stickRule) float32 {
 	var best float32
 	seeded := false
-	for _, j := range nb {
-		q := ph[j]
-		if r.on[q] > best {
-			best = r.on[q]
+	if m != 0x3f { // some water neighbour
+		best = r.inWaterVal
+		seeded = r.seed[kinetics.Water]
+	}
+	var qs [6]kinetics.ID
+	n := 0
+	ph := e.g.Phase
+	for mm := m; mm != 0; mm &= mm - 1 {
+		k := mbits.TrailingZeros8(mm)
+		a := k >> 1
+		nc := c[a] + 2*(k&1) - 1
+		if nc < 0 {
+			nc = e.dim[a] - 1
+		} else if nc == e.dim[a] {
+			nc = 0
+		}
+		q := ph[i+(nc-c[a])*e.stride[a]]
+		qs[n] = q
+		n++
+		if v := r.on[q]; v > best {
+			best = v
 		}
 		if r.seed[q] {
 			seeded = true
 		}
 	}
 	if seeded {
-		for _, j := range nb {
-			if v := r.seeded[ph[j]]; v > best {
+		if m != 0x3f {
+			if v := r.seeded[kinetics.Water]; v > best {
+				best = v
+			}
+		}
+		for _, q := range qs[:n] {
+			if v := r.seeded[q]; v > best {
 				best = v
 			}
 		}
 	}
-	if best <= 0 {
-		return false
-	}
-	return best >= 1 || e.r.Float32() < best
+	return best
 }
 
 // precipitate turns pore-water voxel i into product q; C-S-H is inner

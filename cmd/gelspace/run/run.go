@@ -52,7 +52,7 @@ type CheckpointPolicy struct {
 // Memory a run takes, as resident memory: a fixed part (the program, the
 // runtime, images and tables) and a part per voxel, the larger of the
 // hydration's and the D/D0 solve's. Hydration holds up to three copies of
-// the engine's lattice and classes (13 bytes per voxel each,
+// the engine's lattice and classes (15 bytes per voxel each,
 // BenchmarkHydrate100) while the set point and depercolation are refined
 // on clones, and the labelling (5 bytes); the D/D0 solve at the last age
 // runs beside the engine alone, with its vectors, multigrid levels and the
