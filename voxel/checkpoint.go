@@ -222,3 +222,38 @@ func (s state) clone() state {
 	c.Coarse = s.Coarse.clone()
 	return c
 }
+
+// Shelved is an engine put away in memory as its checkpoint: about 2 bytes
+// per voxel of a hydrated paste against the engine's 15, for a state that
+// is not advanced for a while (while a refinement replays from an earlier
+// state, or while D/D0 is solved on the lattice). Restore gives back an
+// engine that goes on exactly as the shelved one would, its guard
+// included.
+type Shelved struct {
+	data  []byte
+	set   EngineSettings
+	guard func(events uint64, timeS float64) error
+}
+
+// Shelve saves e, run with settings set, to memory. e itself is unchanged;
+// the caller drops it to free its memory.
+func (e *Engine) Shelve(set EngineSettings) (*Shelved, error) {
+	var b bytes.Buffer
+	if err := e.WriteCheckpoint(&b, &set, nil); err != nil {
+		return nil, err
+	}
+	return &Shelved{data: b.Bytes(), set: set, guard: e.guard}, nil
+}
+
+// Bytes returns the memory the shelved engine holds.
+func (s *Shelved) Bytes() int { return len(s.data) }
+
+// Restore returns the shelved engine.
+func (s *Shelved) Restore() (*Engine, error) {
+	e, _, err := ReadCheckpoint(bytes.NewReader(s.data), s.set)
+	if err != nil {
+		return nil, err
+	}
+	e.guard = s.guard
+	return e, nil
+}

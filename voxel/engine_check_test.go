@@ -347,3 +347,35 @@ func TestCloneGoesOnAlike(t *testing.T) {
 		t.Error("hydration changed the particle map")
 	}
 }
+
+// TestShelveGoesOnAlike: an engine shelved and restored goes on exactly as
+// the original, and the shelf holds a few bytes per voxel.
+func TestShelveGoesOnAlike(t *testing.T) {
+	g := enginePaste(t, 30, 1, 0.45, 18)
+	set := EngineSettings{Params: kinetics.DefaultParams(), Thermal: kinetics.Thermal{TempC: 20}, Sealed: true, Seed: 3}
+	e, err := NewEngine(g, set)
+	if err != nil {
+		t.Fatal(err)
+	}
+	e.SetGuard(func(uint64, float64) error { return nil })
+	runTo(t, e, []float64{12})
+	sh, err := e.Shelve(set)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if per := float64(sh.Bytes()) / float64(g.Len()); per > 4 {
+		t.Errorf("shelf holds %.1f bytes per voxel, want ≤ 4", per)
+	}
+	r, err := sh.Restore()
+	if err != nil {
+		t.Fatal(err)
+	}
+	runTo(t, e, []float64{40})
+	runTo(t, r, []float64{40})
+	if !bytes.Equal(r.Grid().Phase, e.Grid().Phase) || r.HeatJPerG() != e.HeatJPerG() || r.Alpha() != e.Alpha() {
+		t.Error("restored engine and original differ at the same age")
+	}
+	if r.guard == nil {
+		t.Error("the restored engine lost its guard")
+	}
+}

@@ -316,31 +316,9 @@ func (h *hydration) step() (bool, error) {
 			return false, err
 		}
 		if h.diffT[t] {
-			g := h.e.Grid()
-			h.sol.Labeler = &h.lab // one set of labelling buffers for the run
-			d, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol})
-			if err != nil {
-				return false, fmt.Errorf("diffusivity at %g h: %w", t, err)
+			if err := h.diffusivity(t, r, p); err != nil {
+				return false, err
 			}
-			r[colDiff] = (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
-			h.st.Diff = append(h.st.Diff, d.Rel)
-			h.st.DiffAt = append(h.st.DiffAt, t)
-			// The capillary pores alone: no solve once they no longer
-			// span the box (D/D0 is then 0 along every axis).
-			dc := [3]float64{math.NaN(), math.NaN(), math.NaN()}
-			if h.cfg.Output.CapillaryDiffusivity {
-				dc = [3]float64{}
-			}
-			if h.cfg.Output.CapillaryDiffusivity && p.SpanAxes > 0 {
-				tab := CapillaryDiffusivities()
-				c, err := h.sol.Diffusivity(h.box, g.Phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol, Table: &tab})
-				if err != nil {
-					return false, fmt.Errorf("capillary-pore diffusivity at %g h: %w", t, err)
-				}
-				dc = c.Rel
-			}
-			r[colDiffCap] = (dc[0] + dc[1] + dc[2]) / 3
-			h.st.DiffCap = append(h.st.DiffCap, dc)
 		}
 		if h.last() {
 			// Nothing is labelled or solved after the last age: the
@@ -361,32 +339,107 @@ func (h *hydration) step() (bool, error) {
 // events detects and refines the set point and depercolation at output age
 // t, then keeps the state needed for the next refinement.
 func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
-	depToo := h.st.Deperc == nil && isDepercolated(p)
-	if h.st.Set == nil && isSet(s) {
-		tr, err := h.refine(t, depToo, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
+	setNow := h.st.Set == nil && isSet(s)
+	depNow := h.st.Deperc == nil && isDepercolated(p)
+	if setNow || depNow {
+		// The engine at t is shelved while the refinement replays from
+		// the last output age, so that two engines are held, not three.
+		atT := Transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
+		shelf, err := h.shelve()
 		if err != nil {
 			return err
 		}
-		if tr == nil {
-			tr = &Transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
+		if setNow {
+			tr, err := h.refine(t, depNow, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
+			if err != nil {
+				return err
+			}
+			if tr == nil {
+				at := atT
+				tr = &at
+			}
+			h.st.Set = tr
 		}
-		h.st.Set = tr
-	}
-	if h.st.Deperc == nil && isDepercolated(p) {
-		tr, err := h.refine(t, false, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
-		if err != nil {
+		if depNow {
+			tr, err := h.refine(t, false, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
+			if err != nil {
+				return err
+			}
+			if tr == nil {
+				at := atT
+				tr = &at
+			}
+			h.st.Deperc = tr
+		}
+		h.prev = nil
+		if err := h.unshelve(shelf); err != nil {
 			return err
 		}
-		if tr == nil {
-			tr = &Transition{TimeH: t, Alpha: h.e.Alpha(), Porosity: capPor(h.e)}
-		}
-		h.st.Deperc = tr
 	}
 	h.prev = nil
 	if (h.st.Set == nil || h.st.Deperc == nil) && !h.last() {
 		h.prev = h.e.Clone()
 	}
 	h.st.PrevH = t
+	return nil
+}
+
+// diffusivity solves D/D0 of the lattice at age t into row r (p: the
+// pores' connectivity), with the engine shelved meanwhile; the solver's
+// buffers are let go before the engine is restored.
+func (h *hydration) diffusivity(t float64, r []float64, p percolation.Connectivity) error {
+	// The engine is shelved while the lattice is solved, so that the
+	// solver's buffers and the engine are not held at once.
+	phase := h.e.Grid().Phase
+	shelf, err := h.shelve()
+	if err != nil {
+		return err
+	}
+	h.sol.Labeler = &h.lab // one set of labelling buffers for the run
+	d, err := h.sol.Diffusivity(h.box, phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol})
+	if err != nil {
+		return fmt.Errorf("diffusivity at %g h: %w", t, err)
+	}
+	r[colDiff] = (d.Rel[0] + d.Rel[1] + d.Rel[2]) / 3
+	h.st.Diff = append(h.st.Diff, d.Rel)
+	h.st.DiffAt = append(h.st.DiffAt, t)
+	// The capillary pores alone: no solve once they no longer
+	// span the box (D/D0 is then 0 along every axis).
+	dc := [3]float64{math.NaN(), math.NaN(), math.NaN()}
+	if h.cfg.Output.CapillaryDiffusivity {
+		dc = [3]float64{}
+	}
+	if h.cfg.Output.CapillaryDiffusivity && p.SpanAxes > 0 {
+		tab := CapillaryDiffusivities()
+		c, err := h.sol.Diffusivity(h.box, phase, percolation.DiffusivityOptions{Workers: h.workers, Tol: h.cfg.Output.DiffusivityTol, Table: &tab})
+		if err != nil {
+			return fmt.Errorf("capillary-pore diffusivity at %g h: %w", t, err)
+		}
+		dc = c.Rel
+	}
+	r[colDiffCap] = (dc[0] + dc[1] + dc[2]) / 3
+	h.st.DiffCap = append(h.st.DiffCap, dc)
+	h.sol = percolation.Solver{}
+	return h.unshelve(shelf)
+}
+
+// shelve puts the engine away in memory (h.e is nil until unshelve).
+func (h *hydration) shelve() (*voxel.Shelved, error) {
+	sh, err := h.e.Shelve(h.set)
+	if err != nil {
+		return nil, err
+	}
+	h.e = nil
+	return sh, nil
+}
+
+// unshelve restores the engine put away by shelve.
+func (h *hydration) unshelve(sh *voxel.Shelved) error {
+	e, err := sh.Restore()
+	if err != nil {
+		return err
+	}
+	h.e = e
 	return nil
 }
 

@@ -51,19 +51,22 @@ type CheckpointPolicy struct {
 
 // Memory a run takes, as resident memory: a fixed part (the program, the
 // runtime, images and tables) and a part per voxel, the larger of the
-// hydration's and the D/D0 solve's. Hydration holds up to three copies of
-// the engine's lattice and classes (15 bytes per voxel each,
-// BenchmarkHydrate100) while the set point and depercolation are refined
-// on clones, and the labelling (5 bytes); the D/D0 solve at the last age
-// runs beside the engine alone, with its vectors, multigrid levels and the
-// shared labelling (51 bytes, BenchmarkDiffusivityHydrated100). The
-// command holds the garbage collector to this figure (a soft memory
-// limit), so the resident peak stays near the live heap. Measured with GNU
-// time on default runs to 168 h (see README, Performance).
+// hydration's and the D/D0 solve's. While the set point or depercolation
+// is refined, hydration holds two engines (the replay's base and its
+// step; 15 bytes per voxel each, BenchmarkHydrate100, the particle map of
+// 4 bytes shared), the engine of the present age shelved as its
+// checkpoint (about 2 bytes) and the labelling (5 bytes). The D/D0 solve
+// holds the lattice's phases, the shelved engine and its own vectors,
+// multigrid levels and the shared labelling (47 bytes,
+// BenchmarkDiffusivityHydrated100). The command holds the garbage
+// collector to this figure (a soft memory limit), so the resident peak
+// stays near the live heap: with it, the peak grew by 38 bytes per voxel
+// from 100³ to 160³ without D/D0 and by 46 with it, at no measurable cost
+// in time (GNU time, runs to 168 h; see README, Performance).
 const (
 	runFixedBytes     = 32 << 20
-	runBytesPerVoxel  = 50
-	diffBytesPerVoxel = 58 // replaces runBytesPerVoxel when D/D0 is computed
+	runBytesPerVoxel  = 40
+	diffBytesPerVoxel = 48 // replaces runBytesPerVoxel when D/D0 is computed
 )
 
 // CheckMemory refuses, before anything is allocated, a box whose run
