@@ -97,17 +97,19 @@
 // until the relative residual ‖b − Aw‖₂/‖b‖₂ falls below
 // DiffusivityOptions.Tol (default 1e-6; tolerances below FloorTol, 1e-7,
 // are raised to it) or the iteration cap is hit (an error, with the
-// estimate reached). On the 28-day 100³ paste of testdata this takes 52–53
-// iterations per axis to 1e-6 and 42–43 to 1e-5 (86–88 and 63–65 with
-// aggregates that ignored strength). D/D0 is then evaluated
+// estimate reached). On the 28-day 100³ paste of testdata this takes 31
+// iterations per axis to 1e-6 and 25–26 to 1e-5 (52–53 and 42–43 with a
+// plain V-cycle, 86–88 and 63–65 with aggregates that also ignored
+// strength). D/D0 is then evaluated
 // from the final w as E(w) = c0 − 2bᵀw + wᵀAw (c0 the dissipation at
 // w = 0), the exact dissipation of the stored iterate, which exceeds the
 // true one only to second order in the error of w. The three axes of a
 // periodic box share the operator, and so the multigrid levels, when the
 // same clusters span them. The fine-level passes run over contiguous
-// ranges of z planes on DiffusivityOptions.Workers goroutines, the coarse
-// levels on one; every sum is formed per plane and added in plane order,
-// so results are identical for any number of workers or GOMAXPROCS.
+// ranges of z planes on DiffusivityOptions.Workers goroutines, and the
+// larger coarse levels by slabs of planes in a fixed two-colour order;
+// every sum is formed per plane (or slab) and added in a fixed order, so
+// results are identical for any number of workers or GOMAXPROCS.
 //
 // Storage is per voxel of the box, for a box of N voxels: the phase ids are
 // the caller's, and the conductance of a bond is looked up from the phase
@@ -119,15 +121,16 @@
 // byte per voxel of the axes its cluster spans, and its 4-byte labels then
 // hold the aggregate of each voxel; about 26 bytes per voxel, plus the
 // coarse levels, whose size follows the active set and which keep only
-// their rows, inverse diagonal, iterate, right-hand side and aggregates
+// their rows, and in single precision their inverse diagonal, iterate and
+// right-hand side, and their aggregates
 // (the diagonals, block coordinates and unmerged entries of the build are
 // dropped once the levels stand, and the vectors are allocated after
 // them). On the 100³ paste of testdata, 64 % of the voxels active, the
 // first level has 0.32 aggregates per active voxel and the solver holds
-// 51 bytes per voxel of the box in all (BenchmarkDiffusivityHydrated100).
+// 47 bytes per voxel of the box in all (BenchmarkDiffusivityHydrated100).
 // The stencils of the iteration (the product A p, the fine smoothing and
-// residual) are summed in single precision, every sum over voxels, the
-// coarse levels, the setup and the dissipation in double precision; the
+// residual) are summed in single precision, every sum over voxels, each
+// coarse row, the setup and the dissipation in double precision; the
 // single-precision vectors and stencils change D/D0 by less than 1e-8
 // relative on the test pastes and 2e-10 on the 100³ paste solved to 1e-6
 // (TestDiffusivityFloat64, TestDiffusivityHydrated).

@@ -349,8 +349,21 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 		if err != nil {
 			return err
 		}
-		if setNow {
-			tr, err := h.refine(t, depNow, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) })
+		// Each event's age: refined by bisection between the last output
+		// age and t, or t itself when no replayed age showed the event.
+		for _, ev := range []struct {
+			now  bool
+			keep bool // another refinement from the same state follows
+			test func(g *voxel.Grid) bool
+			out  **Transition
+		}{
+			{setNow, depNow, func(g *voxel.Grid) bool { return isSet(h.lab.Solids(h.box, g.Phase, g.Particle)) }, &h.st.Set},
+			{depNow, false, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) }, &h.st.Deperc},
+		} {
+			if !ev.now {
+				continue
+			}
+			tr, err := h.refine(t, ev.keep, ev.test)
 			if err != nil {
 				return err
 			}
@@ -358,18 +371,7 @@ func (h *hydration) events(t float64, s, p percolation.Connectivity) error {
 				at := atT
 				tr = &at
 			}
-			h.st.Set = tr
-		}
-		if depNow {
-			tr, err := h.refine(t, false, func(g *voxel.Grid) bool { return isDepercolated(h.lab.Pores(h.box, g.Phase)) })
-			if err != nil {
-				return err
-			}
-			if tr == nil {
-				at := atT
-				tr = &at
-			}
-			h.st.Deperc = tr
+			*ev.out = tr
 		}
 		h.prev = nil
 		if err := h.unshelve(shelf); err != nil {
