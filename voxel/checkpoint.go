@@ -175,18 +175,37 @@ func ReadCheckpoint(r io.Reader, set EngineSettings) (*Engine, []byte, error) {
 // The clone shares the particle map (Grid.Particle) with the original:
 // hydration never changes it, so the copies of a refinement cost the
 // lattice's phases and classes alone (4 bytes per voxel less each).
-func (e *Engine) Clone() *Engine {
+func (e *Engine) Clone() *Engine { return e.CloneInto(nil) }
+
+// CloneInto is Clone into the per-voxel buffers of dst, an engine the
+// caller gives up (nil: fresh buffers), so that a replay that drops one
+// copy for the next makes no garbage of its size.
+func (e *Engine) CloneInto(dst *Engine) *Engine {
+	var old Engine
+	if dst != nil && dst != e {
+		old = *dst
+	}
 	c := *e
 	g := *e.g
-	g.Phase = append([]kinetics.ID(nil), e.g.Phase...)
+	var oldPhase []kinetics.ID
+	if old.g != nil {
+		oldPhase = old.g.Phase
+	}
+	g.Phase = append(oldPhase[:0], e.g.Phase...)
 	c.g = &g
-	c.cls = append([]uint16(nil), e.cls...)
-	c.slot = append([]int32(nil), e.slot...)
-	c.solidNb = append([]uint8(nil), e.solidNb...)
-	c.hydNb = append([]uint8(nil), e.hydNb...)
+	c.cls = append(old.cls[:0], e.cls...)
+	c.slot = append(old.slot[:0], e.slot...)
+	c.solidNb = append(old.solidNb[:0], e.solidNb...)
+	c.hydNb = append(old.hydNb[:0], e.hydNb...)
 	c.sets = make([][]int32, len(e.sets))
 	for k, s := range e.sets {
-		c.sets[k] = append(make([]int32, 0, cap(s)), s...)
+		var b []int32
+		if k < len(old.sets) && cap(old.sets[k]) >= len(s) {
+			b = old.sets[k][:0]
+		} else {
+			b = make([]int32, 0, cap(s))
+		}
+		c.sets[k] = append(b, s...)
 	}
 	c.sumW = append([]int(nil), e.sumW...)
 	c.sumH = append([]int(nil), e.sumH...)

@@ -338,6 +338,15 @@ func TestCloneGoesOnAlike(t *testing.T) {
 	if !bytes.Equal(c.Grid().Phase, e.Grid().Phase) || c.HeatJPerG() != e.HeatJPerG() {
 		t.Error("clone and original differ at the same age")
 	}
+	// A clone into the buffers of a given-up engine goes on alike too.
+	spare := e.Clone()
+	runTo(t, spare, []float64{50})
+	c2 := c.CloneInto(spare)
+	runTo(t, c2, []float64{60})
+	runTo(t, c, []float64{60})
+	if !bytes.Equal(c2.Grid().Phase, c.Grid().Phase) || c2.HeatJPerG() != c.HeatJPerG() {
+		t.Error("CloneInto and its original differ at the same age")
+	}
 	// The particle map is shared, and hydration leaves it as packed.
 	if &c.Grid().Particle[0] != &e.Grid().Particle[0] {
 		t.Error("the clone copied the particle map")

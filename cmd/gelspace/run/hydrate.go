@@ -255,20 +255,27 @@ func (h *hydration) refine(hi float64, keep bool, test func(g *voxel.Grid) bool)
 	lo := h.st.PrevH
 	base := h.prev
 	var best *Transition
+	var spare *voxel.Engine // a copy given up, whose buffers the next takes
 	for hi-lo > math.Max(0.05, 0.01*hi) {
 		mid := 0.5 * (lo + hi)
-		e := base.Clone()
+		e := base.CloneInto(spare)
+		spare = nil
 		if err := e.AdvanceTo(mid); err != nil {
 			return nil, err
 		}
 		if test(e.Grid()) {
 			hi = mid
 			best = &Transition{TimeH: mid, Alpha: e.Alpha(), Porosity: capPor(e)}
+			spare = e
 		} else {
 			lo = mid
+			old := base
 			base = e
 			if !keep {
 				h.prev = nil
+			}
+			if old != h.prev { // not kept for the next refinement
+				spare = old
 			}
 		}
 	}

@@ -60,13 +60,14 @@ type CheckpointPolicy struct {
 // multigrid levels and the shared labelling (47 bytes,
 // BenchmarkDiffusivityHydrated100). The command holds the garbage
 // collector to this figure (a soft memory limit), so the resident peak
-// stays near the live heap: with it, the peak grew by 38 bytes per voxel
-// from 100³ to 160³ without D/D0 and by 46 with it, at no measurable cost
-// in time (GNU time, runs to 168 h; see README, Performance).
+// stays near the live heap: the peak grew by 38 bytes per voxel from 100³
+// to 160³ without D/D0 and by 46 with it when the limit was set below
+// these figures (GNU time, runs to 168 h; see README, Performance); the
+// constants leave the collector a little room above them.
 const (
 	runFixedBytes     = 32 << 20
 	runBytesPerVoxel  = 40
-	diffBytesPerVoxel = 48 // replaces runBytesPerVoxel when D/D0 is computed
+	diffBytesPerVoxel = 50 // replaces runBytesPerVoxel when D/D0 is computed
 )
 
 // CheckMemory refuses, before anything is allocated, a box whose run
