@@ -135,7 +135,9 @@ type Solver struct {
 	ins  []uint8 // a row of the sentinel class
 
 	w, r, p, z []float32
-	invd       []float32    // 1/A_ii on the active set, 0 elsewhere: the smoother's diagonal
+	dcode      []uint8      // per voxel: the code in dinv of 1/A_ii (the smoother's diagonal, see encodeDiag)
+	dinv       [256]float32 // 1/A_ii by code: 0 (code 0) off the active set, dEscape recomputed
+	maxCodes   int          // tests: fewer codes than dEscape−1, so that escapes are exercised
 	part       [][3]float64 // per z plane partial sums, added in plane order
 	rows       [][2][]float64
 	rows32     [][]float32 // per worker, a row of single-precision scratch
@@ -467,10 +469,12 @@ func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, i
 	s.axisA, s.cl = a, cl
 	s.mgBuild()
 	// The vectors after the levels: the build's scratch is garbage by now.
-	for _, v := range [5]*[]float32{&s.w, &s.r, &s.p, &s.z, &s.invd} {
+	for _, v := range [4]*[]float32{&s.w, &s.r, &s.p, &s.z} {
 		*v = grow(*v, s.box.Len())
 	}
+	s.dcode = grow(s.dcode, s.box.Len())
 	s.parallel(passSetup)
+	s.encodeDiag()
 	_, bb, c0 := s.sums()
 	var iter int
 	var rel float64
@@ -691,9 +695,10 @@ func (s *Solver) gather(v []float32, y, z, x0, step int, sum, dg []float64) {
 	}
 }
 
-// setup fills, on the planes [z0, z1), the right-hand side r = b and the
-// inverse diagonal on the active set (0 elsewhere), w = 0, with part = (0, b·b, c0) per plane, c0
-// being the dissipation at w = 0.
+// setup fills, on the planes [z0, z1), the right-hand side r = b, w = 0
+// and, in z until encodeDiag codes it, the inverse diagonal on the active
+// set (0 elsewhere), with part = (0, b·b, c0) per plane, c0 being the
+// dissipation at w = 0.
 func (s *Solver) setup(z0, z1 int, _, dg []float64) {
 	nx, ny := s.box.NX, s.box.NY
 	for z := z0; z < z1; z++ {
@@ -705,13 +710,10 @@ func (s *Solver) setup(z0, z1 int, _, dg []float64) {
 			for x := range nx {
 				gp, b, ok := s.source(x, y, z)
 				if !ok {
-					s.r[row+x], s.invd[row+x] = 0, 0
+					s.r[row+x], s.z[row+x] = 0, 0
 					continue
 				}
-				s.invd[row+x] = 0
-				if dg[x] > 0 { // 0 for a voxel bonded only to its own image
-					s.invd[row+x] = float32(1 / dg[x])
-				}
+				s.z[row+x] = invDiag(dg[x])
 				c0 += gp
 				if s.onFace(y, z) {
 					ge, _ := s.electrode(s.cls[row+x], [3]int{x, y, z}[s.elec])
@@ -821,14 +823,18 @@ func (s *Solver) update(z0, z1 int) {
 			lo := nx * (y + ny*z)
 			r := s.r[lo : lo+nx]
 			n := len(r)
-			q, w, p, m := s.z[lo : lo+nx][:n], s.w[lo : lo+nx][:n], s.p[lo : lo+nx][:n], s.invd[lo : lo+nx][:n]
+			q, w, p, dc := s.z[lo : lo+nx][:n], s.w[lo : lo+nx][:n], s.p[lo : lo+nx][:n], s.dcode[lo : lo+nx][:n]
 			c := (y + z) & 1 // x parity of the red voxels
 			for i, ri := range r {
 				w[i] = float32(float64(w[i]) + alpha*float64(p[i]))
 				v := float32(float64(ri) - alpha*float64(q[i]))
 				r[i] = v
 				rr += float64(v) * float64(v)
-				zi := float32(float64(v) * float64(m[i]))
+				m := s.dinv[dc[i]]
+				if dc[i] == dEscape {
+					m = s.minv(lo + i)
+				}
+				zi := float32(float64(v) * float64(m))
 				if red && i&1 != c {
 					zi = 0
 				}
@@ -860,10 +866,10 @@ func (s *Solver) jacobi(z0, z1 int) {
 	for z := z0; z < z1; z++ {
 		lo, hi := z*plane, (z+1)*plane
 		r := s.r[lo:hi]
-		zz, m := s.z[lo:hi][:len(r)], s.invd[lo:hi][:len(r)]
+		zz := s.z[lo:hi][:len(r)]
 		var rz float64
 		for i, ri := range r {
-			v := float32(float64(ri) * float64(m[i]))
+			v := float32(float64(ri) * float64(s.minv(lo+i)))
 			zz[i] = v
 			rz += float64(ri) * float64(v)
 		}

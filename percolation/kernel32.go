@@ -59,7 +59,7 @@ func (s *Solver) gsValue32(xv, f []float32, y, z, x int) float32 {
 	g, vn, _ := s.bonds32(xv, y, z, x)
 	i := s.box.NX*(y+s.box.NY*z) + x
 	sum := (g[0]*vn[0] + g[1]*vn[1]) + (g[2]*vn[2] + g[3]*vn[3]) + (g[4]*vn[4] + g[5]*vn[5])
-	return (f[i] + sum) * s.invd[i]
+	return (f[i] + sum) * s.minv(i)
 }
 
 // applyRow sets out[x] = (A v)_x, as apply32 computes it, for the voxels

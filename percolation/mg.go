@@ -933,11 +933,11 @@ func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int) {
 			row := nx * (y + ny*z)
 			xr, fr := x[row:row+nx], f[row : row+nx][:nx]
 			x0 := (c + y + z) & 1
-			mr := s.invd[row : row+nx][:nx]
+			mr := s.dcode[row : row+nx][:nx]
 			if first {
 				clear(xr)
 				for i := x0; i < nx; i += 2 {
-					if m := mr[i]; m != 0 {
+					if m := s.minv(row + i); m != 0 {
 						v := float32(float64(fr[i]) * float64(m))
 						xr[i] = v
 						fx += float64(fr[i]) * float64(v)
@@ -982,9 +982,9 @@ func (s *Solver) sweep(x, f []float32, c int, first, reverse bool, z0, z1 int) {
 
 // sweepRow is the Gauss–Seidel update x_i = (f_i + Σ_j g_ij x_j)·m_i of
 // the voxels lo, lo+2, … < hi of row (y, z) with 0 < lo and hi < NX (no
-// wrap along x) and m_i ≠ 0, each from the values before the call, in
+// wrap along x) and m_i ≠ 0 (mr holds the codes of m, see encodeDiag), each from the values before the call, in
 // single precision as gsValue32 computes it; it returns Σ f_i x_i.
-func (s *Solver) sweepRow(x, fr, mr []float32, y, z, lo, hi int) float64 {
+func (s *Solver) sweepRow(x, fr []float32, mr []uint8, y, z, lo, hi int) float64 {
 	nx := s.box.NX
 	if lo == 0 {
 		panic("percolation: sweepRow at x = 0")
@@ -995,10 +995,15 @@ func (s *Solver) sweepRow(x, fr, mr []float32, y, z, lo, hi int) float64 {
 	vr, vym, vyp, vzm, vzp := x[row : row+nx][:nx], x[ym : ym+nx][:nx], x[yp : yp+nx][:nx], x[zm : zm+nx][:nx], x[zp : zp+nx][:nx]
 	fr, mr = fr[:nx], mr[:nx]
 	var fx float64
+	tab := &s.dinv
 	for i := lo; i < hi; i += 2 {
-		m := mr[i]
-		if m == 0 {
+		mc := mr[i]
+		if mc == 0 {
 			continue
+		}
+		m := tab[mc]
+		if mc == dEscape {
+			m = s.minv(row + i)
 		}
 		ci := uint16(cr[i]) << 8
 		sum := (g[ci|uint16(cr[i+1])]*vr[i+1] + g[ci|uint16(cr[i-1])]*vr[i-1]) +
@@ -1016,7 +1021,7 @@ func (s *Solver) sweepRow(x, fr, mr []float32, y, z, lo, hi int) float64 {
 // (y, z) when m_i ≠ 0 and returns f_i x_i.
 func (s *Solver) gsEnd(xv, f []float32, y, z, x int) float64 {
 	i := s.box.NX*(y+s.box.NY*z) + x
-	if s.invd[i] == 0 {
+	if s.dcode[i] == 0 {
 		return 0
 	}
 	v := s.gsValue32(xv, f, y, z, x)
