@@ -107,19 +107,21 @@ const MaxFieldValues = 254
 //
 // Memory: per voxel of the box, four float32 vectors (the fluctuation w,
 // the residual r, the search direction p and the preconditioned residual
-// z, which also holds A p) and the float32 inverse diagonal, the axes
-// spanned by each voxel's conducting cluster (a byte) and the labelling of
-// the conducting clusters (an int32, which then holds the aggregate of
-// each voxel, and a bool), 26 bytes, plus the coarse levels (the first
-// about a third of the active voxels on a hydrated paste, where strength
-// of connection splits pore from C-S-H; each further one a third to a half
-// of the one above). Conductances are not stored: each
-// bond's is looked up from the classes (phase ids) of its two voxels.
+// z, which also holds A p), a byte coding the smoother's inverse diagonal
+// (see encodeDiag), a byte of the axes spanned by each voxel's conducting
+// cluster and its aggregate on the first coarse level, and an int32 per
+// 2×2×2 block, 18.5 bytes, plus the coarse levels (the first about a third
+// of the active voxels on a hydrated paste, where strength of connection
+// splits pore from C-S-H; each further one a third to a half of the one
+// above). The labelling of the conducting clusters is read into the axes
+// byte and its buffers let go before the vectors are sized. Conductances
+// are not stored: each bond's is looked up from the classes (phase ids) of
+// its two voxels.
 type Solver struct {
 	// Labeler, when not nil, labels the conducting clusters in place of
 	// the solver's own, so that a caller that labels too (connectivity at
-	// each age) holds one set of labelling buffers. Its result is
-	// overwritten by the solve.
+	// each age) holds one set of labelling buffers. The solve lets go of
+	// its buffers (Labeler.Release), so its last result is lost.
 	Labeler *Labeler
 
 	lab  Labeler
@@ -141,8 +143,9 @@ type Solver struct {
 	part       [][3]float64 // per z plane partial sums, added in plane order
 	rows       [][2][]float64
 	rows32     [][]float32 // per worker, a row of single-precision scratch
-	act        []uint8     // per voxel: bit a set when its cluster spans axis a
-	agg        []int32     // aggregate on coarse level 0 of each voxel, −1 off the active set (the labelling's storage)
+	act        []uint8     // per voxel: bit a set when its cluster spans axis a; the aggregate code (see fineAggregates) in bits 3–6
+	bfirst     []int32     // per 2×2×2 block of the box: its first aggregate on coarse level 0
+	spans      [][3]bool   // per conducting cluster: the axes it spans
 	mg         []gLevel    // multigrid coarse levels
 	stack      []int32     // aggregation scratch
 	cuf        []int32     // union–find scratch of the coarse levels
@@ -162,7 +165,6 @@ type Solver struct {
 
 	// set per axis
 	axisA int
-	cl    *Clusters
 	elec  int  // axis with electrodes (a non-periodic gradient axis), or −1
 	useMG bool // the hierarchy is built
 
@@ -302,7 +304,8 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 	}
 	cl := lab.Label(box, in)
 	// The axes each voxel's cluster spans; the labels themselves are not
-	// needed past this point, and their storage becomes the aggregate map.
+	// needed past this point, and the labeler's buffers are let go before
+	// the solver's vectors are sized.
 	s.act = grow(s.act, n)
 	for i, l := range cl.Label {
 		var m uint8
@@ -316,7 +319,8 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 		}
 		s.act[i] = m
 	}
-	s.agg = cl.Label
+	s.spans = append(s.spans[:0], cl.Spans...)
+	lab.Release()
 	s.ins = grow(s.ins, box.NX)
 	for i := range s.ins {
 		s.ins[i] = sentinel
@@ -340,7 +344,7 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 	built := false
 	for a := range 3 {
 		active := false
-		for _, sp := range cl.Spans {
+		for _, sp := range s.spans {
 			active = active || sp[a]
 		}
 		res.Conducts[a] = active
@@ -350,7 +354,7 @@ func (s *Solver) solve(box Box, opt DiffusivityOptions) (Diffusion, error) {
 				s.hierOK = false
 			}
 			var e error
-			res.Rel[a], res.Iter[a], res.Residual[a], e = s.axis(a, cl, tol, maxIter)
+			res.Rel[a], res.Iter[a], res.Residual[a], e = s.axis(a, tol, maxIter)
 			if e != nil && err == nil {
 				err = e
 			}
@@ -461,12 +465,12 @@ func (s *Solver) sums() (a, b, c float64) {
 // double-precision sums), whatever the rounding of the single-precision
 // vectors along the way, and exceeds the true dissipation by (w − w*)ᵀA(w − w*),
 // second order in the error of w.
-func (s *Solver) axis(a int, cl *Clusters, tol float64, maxIter int) (float64, int, float64, error) {
+func (s *Solver) axis(a int, tol float64, maxIter int) (float64, int, float64, error) {
 	s.elec = -1
 	if !s.box.Periodic[a] {
 		s.elec = a
 	}
-	s.axisA, s.cl = a, cl
+	s.axisA = a
 	s.mgBuild()
 	// The vectors after the levels: the build's scratch is garbage by now.
 	for _, v := range [4]*[]float32{&s.w, &s.r, &s.p, &s.z} {

@@ -394,7 +394,9 @@ func TestDiffusivityPreconditioners(t *testing.T) {
 // TestDiffusivityReuseAllocs checks that a sized Solver solves again on its
 // own buffers: a reused solve allocates only the multigrid's build scratch
 // (diagonals, block coordinates and raw entries, dropped once the levels
-// are built), under a quarter of the bytes of the first solve.
+// are built) and the labelling's buffers (let go before the vectors are
+// sized): at least the vectors, the diagonal codes and the per-voxel
+// codes fewer bytes than the first solve.
 func TestDiffusivityReuseAllocs(t *testing.T) {
 	box := PeriodicBox(24, 20, 16)
 	phase := randomPaste(box, 4, 0.35, 0.3)
@@ -419,9 +421,10 @@ func TestDiffusivityReuseAllocs(t *testing.T) {
 		t.Fatal(err)
 	}
 	again := allocated() - a1
-	t.Logf("first solve %d bytes, reused %d", first, again)
-	if 4*again > first || &s.w[0] != w {
-		t.Errorf("a reused solve allocated %d bytes, the first %d: want under a quarter, on the same vectors", again, first)
+	kept := uint64(4*(cap(s.w)+cap(s.r)+cap(s.p)+cap(s.z)) + cap(s.dcode) + cap(s.act))
+	t.Logf("first solve %d bytes, reused %d, kept %d", first, again, kept)
+	if again+kept > first || &s.w[0] != w {
+		t.Errorf("a reused solve allocated %d bytes, the first %d: want at most %d, on the same vectors", again, first, first-kept)
 	}
 }
 

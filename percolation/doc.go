@@ -115,19 +115,21 @@
 // the caller's, and the conductance of a bond is looked up from the phase
 // ids of its two voxels in a table of single-precision harmonic means, so
 // no conductance is stored; the vectors w, r, p and z (which also holds
-// A p) and the smoother's inverse diagonal are single precision (4 × 5
-// bytes); the labelling of the conducting clusters (4 + 1 bytes, shared
-// with the caller's Labeler through Solver.Labeler) is read once into a
-// byte per voxel of the axes its cluster spans, and its 4-byte labels then
-// hold the aggregate of each voxel; about 26 bytes per voxel, plus the
-// coarse levels, whose size follows the active set and which keep only
-// their rows, and in single precision their inverse diagonal, iterate and
-// right-hand side, and their aggregates
-// (the diagonals, block coordinates and unmerged entries of the build are
-// dropped once the levels stand, and the vectors are allocated after
-// them). On the 100³ paste of testdata, 64 % of the voxels active, the
-// first level has 0.32 aggregates per active voxel and the solver holds
-// 47 bytes per voxel of the box in all (BenchmarkDiffusivityHydrated100).
+// A p) are single precision (4 × 4 bytes) and the smoother's inverse
+// diagonal a one-byte code into a table of its distinct values; the
+// labelling of the conducting clusters (shared with the caller's Labeler
+// through Solver.Labeler) is read once into a byte per voxel of the axes
+// its cluster spans, which also codes the voxel's aggregate on the first
+// coarse level (with an int32 per 2×2×2 block), and its buffers are then
+// let go; about 18.5 bytes per voxel, plus the coarse levels, whose size
+// follows the active set and which keep only their rows, and in single
+// precision their inverse diagonal, iterate and right-hand side, and
+// their aggregates (the diagonals, block coordinates and unmerged entries
+// of the build are dropped once the levels stand, and the vectors are
+// allocated after them). On the 100³ paste of testdata, 64 % of the voxels
+// active, the first level has 0.32 aggregates per active voxel and the
+// solver holds 39 bytes per voxel of the box in all
+// (BenchmarkDiffusivityHydrated100).
 // The stencils of the iteration (the product A p, the fine smoothing and
 // residual) are summed in single precision, every sum over voxels, each
 // coarse row, the setup and the dissipation in double precision; the

@@ -144,7 +144,7 @@ func BenchmarkDiffusivityHydrated100Tol5(b *testing.B) { benchHydratedTol(b, 1, 
 // footprint returns the bytes held by the solver's buffers (capacities),
 // its labeler and its multigrid levels included.
 func (s *Solver) footprint() int {
-	n := cap(s.fcls) + cap(s.act) + 8*cap(s.dtab) + 4*(1<<16) + cap(s.ins)
+	n := cap(s.fcls) + cap(s.act) + 4*cap(s.bfirst) + 3*cap(s.spans) + 8*cap(s.dtab) + 4*(1<<16) + cap(s.ins)
 	n += 4 * (cap(s.w) + cap(s.r) + cap(s.p) + cap(s.z) + cap(s.dcode)/4 + cap(s.stack))
 	n += 24*cap(s.part) + cap(s.hierAct)
 	for _, r := range s.rows {

@@ -90,6 +90,11 @@ func LabelBonded(box Box, in []bool, bond func(a, b int) bool) *Clusters {
 	return l.LabelBonded(box, in, bond)
 }
 
+// Release lets go of l's buffers, so that a long-lived Labeler does not
+// hold its per-voxel storage while its result is no longer needed; the
+// next call allocates them anew. The last result is invalid after it.
+func (l *Labeler) Release() { *l = Labeler{} }
+
 // Label is the package-level Label on reused buffers. The result, its
 // slices included, belongs to l and is overwritten by l's next call.
 func (l *Labeler) Label(box Box, in []bool) *Clusters {

@@ -607,56 +607,96 @@ func (s *Solver) coloured() bool {
 	return true
 }
 
+// Aggregate codes. The aggregates of coarse level 0 are numbered block by
+// block (the 2×2×2 blocks of the box in raster order of the block grid,
+// the aggregates of one block in the order of their first voxel), so that
+// voxel i's aggregate is s.bfirst[b] + k, b being its block and k < 8 its
+// rank among the block's aggregates. The rank is kept in bits 4–6 of
+// s.act[i], beside the spanned axes in bits 0–2, with bit 3 (aggMember)
+// set for the voxels of an aggregate: one byte per voxel and an int32 per
+// block (half a byte per voxel) in place of an int32 aggregate per voxel.
+const (
+	aggMember = 1 << 3
+	aggShift  = 4
+	aggBits   = 0xf8 // member flag and rank
+)
+
+// blockRow returns the entries of s.bfirst for the blocks that hold voxel
+// row (y, z): entry x/2 is the first aggregate of the block of voxel x.
+func (s *Solver) blockRow(y, z int) []int32 {
+	bx, by := (s.box.NX+1)/2, (s.box.NY+1)/2
+	o := bx * (y/2 + by*(z/2))
+	return s.bfirst[o : o+bx]
+}
+
+// aggOf returns the aggregate on coarse level 0 of voxel (x, y, z), or −1
+// when it is in none (off the active set).
+func (s *Solver) aggOf(x, y, z int) int32 {
+	m := s.act[s.box.Index(x, y, z)]
+	if m&aggMember == 0 {
+		return -1
+	}
+	return s.blockRow(y, z)[x>>1] + int32(m>>aggShift)
+}
+
 // fineAggregates groups the active voxels of the fine level into the
-// connected components (by bonds with g > 0) of each 2×2×2 block, numbered
-// in the order of their first voxel, sets s.agg (−1 off the active set)
-// and level c's block grid, and returns the number of aggregates. Two face
-// neighbours of the active set are always bonded (both conduct), so a
-// component is found by a flood fill inside its block from its first
-// voxel.
+// connected components (by bonds with g > 0) of each 2×2×2 block,
+// numbered as the aggregate codes above say, writes the codes and
+// s.bfirst and level c's block grid, and returns the number of
+// aggregates. Two face neighbours of the active set are always bonded
+// (both conduct), so a component is found by a flood fill inside its
+// block from its first voxel.
 func (s *Solver) fineAggregates(c *gLevel) int {
 	box := s.box
 	nx, ny, nz := box.NX, box.NY, box.NZ
 	plane := nx * ny
 	a := s.axisA
 	for i, m := range s.act {
-		s.agg[i] = -1
-		if m>>a&1 != 0 {
-			s.agg[i] = -2 // active, not yet in an aggregate
-		}
+		s.act[i] = m &^ aggBits
 	}
 	c.dims = [3]int{(nx + 1) / 2, (ny + 1) / 2, (nz + 1) / 2}
+	s.bfirst = growI32(s.bfirst, c.dims[0]*c.dims[1]*c.dims[2])
 	c.blk = c.blk[:0]
-	na := int32(0)
-	for z := range nz {
-		for y := range ny {
-			for x := range nx {
-				i := x + nx*(y+ny*z)
-				if s.agg[i] != -2 {
-					continue
-				}
-				s.agg[i] = na
-				c.blk = append(c.blk, int32(x/2), int32(y/2), int32(z/2))
-				st := append(s.stack[:0], int32(i))
-				for len(st) > 0 {
-					j := int(st[len(st)-1])
-					st = st[:len(st)-1]
-					jx, jy, jz := j%nx, (j/nx)%ny, j/plane
-					try := func(ok bool, k int) {
-						if ok && s.agg[k] == -2 && s.strongBond(j, k) {
-							s.agg[k] = na
-							st = append(st, int32(k))
+	na, b := int32(0), 0
+	for bz := range c.dims[2] {
+		for by := range c.dims[1] {
+			for bx := range c.dims[0] {
+				first := na
+				s.bfirst[b] = first
+				b++
+				for z := 2 * bz; z < min(2*bz+2, nz); z++ {
+					for y := 2 * by; y < min(2*by+2, ny); y++ {
+						for x := 2 * bx; x < min(2*bx+2, nx); x++ {
+							i := x + nx*(y+ny*z)
+							if m := s.act[i]; m>>a&1 == 0 || m&aggMember != 0 {
+								continue
+							}
+							code := aggMember | uint8(na-first)<<aggShift
+							s.act[i] |= code
+							c.blk = append(c.blk, int32(bx), int32(by), int32(bz))
+							st := append(s.stack[:0], int32(i))
+							for len(st) > 0 {
+								j := int(st[len(st)-1])
+								st = st[:len(st)-1]
+								jx, jy, jz := j%nx, (j/nx)%ny, j/plane
+								try := func(ok bool, k int) {
+									if ok && s.act[k]>>a&1 != 0 && s.act[k]&aggMember == 0 && s.strongBond(j, k) {
+										s.act[k] |= code
+										st = append(st, int32(k))
+									}
+								}
+								try(jx&1 == 0 && jx+1 < nx, j+1)
+								try(jx&1 == 1, j-1)
+								try(jy&1 == 0 && jy+1 < ny, j+nx)
+								try(jy&1 == 1, j-nx)
+								try(jz&1 == 0 && jz+1 < nz, j+plane)
+								try(jz&1 == 1, j-plane)
+							}
+							s.stack = st
+							na++
 						}
 					}
-					try(jx&1 == 0 && jx+1 < nx, j+1)
-					try(jx&1 == 1, j-1)
-					try(jy&1 == 0 && jy+1 < ny, j+nx)
-					try(jy&1 == 1, j-nx)
-					try(jz&1 == 0 && jz+1 < nz, j+plane)
-					try(jz&1 == 1, j-plane)
 				}
-				s.stack = st
-				na++
 			}
 		}
 	}
@@ -718,11 +758,12 @@ func (s *Solver) assembleFine(c *gLevel, nc int) {
 		start := len(c.col)
 		var diag float64
 		b := c.blk[3*I : 3*I+3]
+		code := aggMember | uint8(I-int(s.bfirst[int(b[0])+c.dims[0]*(int(b[1])+c.dims[1]*int(b[2]))]))<<aggShift
 		for z := 2 * int(b[2]); z < min(2*int(b[2])+2, nz); z++ {
 			for y := 2 * int(b[1]); y < min(2*int(b[1])+2, ny); y++ {
 				for x := 2 * int(b[0]); x < min(2*int(b[0])+2, nx); x++ {
 					i := box.Index(x, y, z)
-					if s.agg[i] != int32(I) {
+					if s.act[i]&aggBits != code {
 						continue
 					}
 					s.gather(nil, y, z, x, nx, nil, dg)
@@ -746,7 +787,7 @@ func (s *Solver) assembleFine(c *gLevel, nc int) {
 							if g == 0 {
 								continue
 							}
-							J := s.agg[j]
+							J := s.aggOf(q[0], q[1], q[2])
 							if J == int32(I) {
 								diag -= float64(g)
 								continue
@@ -785,10 +826,10 @@ func (s *Solver) mgBuild() {
 	if !s.useMG {
 		return
 	}
-	a, cl := s.axisA, s.cl
-	if s.hierOK && s.elec < 0 && s.hierElec < 0 && len(s.hierAct) == len(cl.Spans) {
+	a := s.axisA
+	if s.hierOK && s.elec < 0 && s.hierElec < 0 && len(s.hierAct) == len(s.spans) {
 		same := true
-		for c, sp := range cl.Spans {
+		for c, sp := range s.spans {
 			same = same && sp[a] == s.hierAct[c]
 		}
 		if same {
@@ -797,7 +838,7 @@ func (s *Solver) mgBuild() {
 	}
 	s.hierOK, s.hierElec = true, s.elec
 	s.hierAct = s.hierAct[:0]
-	for _, sp := range cl.Spans {
+	for _, sp := range s.spans {
 		s.hierAct = append(s.hierAct, sp[a])
 	}
 	if cap(s.mg) == 0 {
@@ -1045,11 +1086,11 @@ func (s *Solver) restrictResidual(x, f []float32, cf []float32, c, z0, z1 int, q
 				x0, step = (c+y+z)&1, 2
 			}
 			s.applyRow(x, q, y, z, x0, step)
-			fr, ar := f[row : row+nx][:nx], s.agg[row : row+nx][:nx]
+			fr, ar, br := f[row : row+nx][:nx], s.act[row : row+nx][:nx], s.blockRow(y, z)
 			q = q[:nx]
 			for i := x0; i < nx; i += step {
-				if I := ar[i]; I >= 0 {
-					cf[I] += fr[i] - q[i]
+				if m := ar[i]; m&aggMember != 0 {
+					cf[br[i>>1]+int32(m>>aggShift)] += fr[i] - q[i]
 				}
 			}
 		}
@@ -1073,10 +1114,10 @@ func (s *Solver) mgPass(op, k, z0, z1 int) {
 				if s.resColour >= 0 {
 					x0, step = (s.resColour+y+z)&1, 2
 				}
-				xr, ar := s.z[row:row+nx], s.agg[row : row+nx][:nx]
+				xr, ar, br := s.z[row:row+nx][:nx], s.act[row : row+nx][:nx], s.blockRow(y, z)
 				for i := x0; i < nx; i += step {
-					if I := ar[i]; I >= 0 {
-						xr[i] = float32(float64(xr[i]) + float64(cx[I]))
+					if m := ar[i]; m&aggMember != 0 {
+						xr[i] = float32(float64(xr[i]) + float64(cx[br[i>>1]+int32(m>>aggShift)]))
 					}
 				}
 			}
