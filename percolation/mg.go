@@ -1114,7 +1114,7 @@ func (s *Solver) mgPass(op, k, z0, z1 int) {
 				if s.resColour >= 0 {
 					x0, step = (s.resColour+y+z)&1, 2
 				}
-				xr, ar, br := s.z[row:row+nx][:nx], s.act[row : row+nx][:nx], s.blockRow(y, z)
+				xr, ar, br := s.z[row : row+nx][:nx], s.act[row : row+nx][:nx], s.blockRow(y, z)
 				for i := x0; i < nx; i += step {
 					if m := ar[i]; m&aggMember != 0 {
 						xr[i] = float32(float64(xr[i]) + float64(cx[br[i>>1]+int32(m>>aggShift)]))
