@@ -56,18 +56,19 @@ type CheckpointPolicy struct {
 // step; 15 bytes per voxel each, BenchmarkHydrate100, the particle map of
 // 4 bytes shared), the engine of the present age shelved as its
 // checkpoint (about 2 bytes) and the labelling (5 bytes). The D/D0 solve
-// holds the lattice's phases, the shelved engine and its own vectors,
-// multigrid levels and the shared labelling (47 bytes,
-// BenchmarkDiffusivityHydrated100). The command holds the garbage
+// holds the lattice's phases, the shelved engine and its own vectors and
+// multigrid levels; the labelling is let go once the spanning clusters
+// are known (BenchmarkDiffusivityHydrated100). The live heap's peak, read
+// off the collector's trace with the limit set below it, grew by 38 bytes
+// per voxel from 100³ to 160³ with D/D0 and by 36.5 without (runs to
+// 168 h; see README, Performance). The command holds the garbage
 // collector to this figure (a soft memory limit), so the resident peak
-// stays near the live heap: the peak grew by 38 bytes per voxel from 100³
-// to 160³ without D/D0 and by 46 with it when the limit was set below
-// these figures (GNU time, runs to 168 h; see README, Performance); the
-// constants leave the collector a little room above them.
+// stays near the live heap; the constants leave the collector a little
+// room above it.
 const (
 	runFixedBytes     = 32 << 20
 	runBytesPerVoxel  = 40
-	diffBytesPerVoxel = 50 // replaces runBytesPerVoxel when D/D0 is computed
+	diffBytesPerVoxel = 42 // replaces runBytesPerVoxel when D/D0 is computed
 )
 
 // CheckMemory refuses, before anything is allocated, a box whose run
