@@ -247,6 +247,7 @@ func sweepMemory(pts []sweep.Point, jobs int) error {
 		name  string
 		n     int
 		bytes float64
+		diff  bool
 	}
 	var needs []need
 	for _, p := range pts {
@@ -258,7 +259,7 @@ func sweepMemory(pts []sweep.Point, jobs int) error {
 		if err != nil {
 			return err
 		}
-		needs = append(needs, need{p.Name, cfg.Box.Voxels, run.MemoryNeed(cfg.Box.Voxels, cfg.Output.Diffusivity)})
+		needs = append(needs, need{p.Name, cfg.Box.Voxels, run.MemoryNeed(cfg.Box.Voxels, cfg.Output.Diffusivity), cfg.Output.Diffusivity})
 	}
 	sort.Slice(needs, func(i, j int) bool { return needs[i].bytes > needs[j].bytes })
 	k := min(jobs, len(needs))
@@ -271,7 +272,7 @@ func sweepMemory(pts []sweep.Point, jobs int) error {
 		return nil
 	}
 	if k == 1 {
-		return &usageError{fmt.Sprintf("sweep: point %s (%d³ voxels) needs about %.1f GB and %.1f GB is available: sweep smaller boxes (or set output.diffusivity = false)", needs[0].name, needs[0].n, total/1e9, avail/1e9)}
+		return &usageError{fmt.Sprintf("sweep: point %s (%d³ voxels) needs about %.1f GB and %.1f GB is available: sweep smaller boxes%s", needs[0].name, needs[0].n, total/1e9, avail/1e9, run.DiffusivityHint(needs[0].diff))}
 	}
 	return &usageError{fmt.Sprintf("sweep: --jobs %d: the %d largest points (%s, %d³ voxels, …) need about %.1f GB side by side and %.1f GB is available: give fewer --jobs or smaller boxes", jobs, k, needs[0].name, needs[0].n, total/1e9, avail/1e9)}
 }
