@@ -136,7 +136,7 @@ func runRun(o *runOpts, fs *pflag.FlagSet, stdout, stderr io.Writer) error {
 	if err := runMemory(cfg, fs.Changed("size")); err != nil {
 		return err
 	}
-	limitMemory(run.MemoryNeed(cfg.Box.Voxels, cfg.Output.Diffusivity))
+	limitMemory(run.HeapLimit(cfg.Box.Voxels, cfg.Output.Diffusivity))
 	if o.out == "" {
 		return &usageError{"run: --out must name a folder"}
 	}

@@ -62,14 +62,20 @@ type CheckpointPolicy struct {
 // off the collector's trace with the limit set below it, grew by 38 bytes
 // per voxel from 100³ to 160³ with D/D0 and by 36.5 without (runs to
 // 168 h; see README, Performance). The command holds the garbage
-// collector to this figure (a soft memory limit), so the resident peak
-// stays near the live heap; the constants leave the collector a little
-// room above it (the resident peak of a 300³ run with D/D0 sat 35 MB
-// above the limit: program text and the runtime's own memory).
+// collector to the heap limit below (a soft memory limit), so the heap
+// stays near its live size; the constants leave the collector a little
+// room above it. The resident peak exceeds the heap limit by the program
+// text, the runtime's own memory and the pages the collector has freed
+// but not yet returned: by 10.2 MB at 100³, 13.2 MB at 160³ and 73.9 MB
+// at 300³ with D/D0 (GNU time's maximum resident set size), which the
+// resident constants cover.
 const (
 	runFixedBytes     = 32 << 20
 	runBytesPerVoxel  = 40
 	diffBytesPerVoxel = 40 // replaces runBytesPerVoxel when D/D0 is computed
+
+	residentFixedBytes    = 8e6
+	residentBytesPerVoxel = 2.5
 )
 
 // CheckMemory refuses, before anything is allocated, a box whose run
@@ -82,15 +88,23 @@ func CheckMemory(cfg *configs.Config) error {
 	return nil
 }
 
-// MemoryNeed returns the resident memory, in bytes, that a run of an n³
-// box is expected to take, with or without D/D0.
-func MemoryNeed(n int, diffusivity bool) float64 {
+// HeapLimit returns the soft memory limit, in bytes, that the command
+// sets for a run of an n³ box, with or without D/D0.
+func HeapLimit(n int, diffusivity bool) float64 {
 	per := float64(runBytesPerVoxel)
 	if diffusivity {
 		per = diffBytesPerVoxel
 	}
 	nf := float64(n)
 	return runFixedBytes + nf*nf*nf*per
+}
+
+// MemoryNeed returns the resident memory, in bytes, that a run of an n³
+// box is expected to take, with or without D/D0: its heap limit and the
+// resident memory above it.
+func MemoryNeed(n int, diffusivity bool) float64 {
+	nf := float64(n)
+	return HeapLimit(n, diffusivity) + residentFixedBytes + nf*nf*nf*residentBytesPerVoxel
 }
 
 // MemoryShortfall returns, when a run of an n³ box would not fit in the
@@ -104,7 +118,8 @@ func MemoryShortfall(n int, diffusivity bool) string {
 	if diffusivity {
 		per = diffBytesPerVoxel
 	}
-	max := int(math.Cbrt(max(avail-runFixedBytes, 0) / per))
+	per += residentBytesPerVoxel
+	max := int(math.Cbrt(max(avail-runFixedBytes-residentFixedBytes, 0) / per))
 	return fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here%s", n, n, need/1e9, avail/1e9, max, DiffusivityHint(diffusivity))
 }
 

@@ -69,3 +69,30 @@ func TestRunRefuses(t *testing.T) {
 		t.Errorf("resume without a checkpoint: %v, want an InputError", err)
 	}
 }
+
+// TestMemoryNeedCoversMeasured checks the resident estimate against the
+// peaks measured on the 2-core development machine (GNU time's maximum
+// resident set size of `gelspace run --size N --until 168`, README,
+// Performance): it must not fall below a measured peak, which would let
+// a box through that does not fit, nor exceed it by more than 6 %, which
+// would refuse boxes that do.
+func TestMemoryNeedCoversMeasured(t *testing.T) {
+	for _, m := range []struct {
+		n    int
+		diff bool
+		kib  float64
+	}{
+		{100, true, 81752}, {100, false, 80128},
+		{160, true, 205644}, {160, false, 205652},
+		{200, true, 365332},
+		{300, true, 1159600},
+	} {
+		got, peak := MemoryNeed(m.n, m.diff), m.kib*1024
+		if got < peak || got > 1.06*peak {
+			t.Errorf("%d³, D/D0 %v: estimate %.1f MB, measured peak %.1f MB (want 1 to 1.06 times it)", m.n, m.diff, got/1e6, peak/1e6)
+		}
+		if lim := HeapLimit(m.n, m.diff); lim >= got {
+			t.Errorf("%d³: heap limit %.1f MB not below the resident estimate %.1f MB", m.n, lim/1e6, got/1e6)
+		}
+	}
+}
