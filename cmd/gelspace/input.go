@@ -64,9 +64,9 @@ func runMemory(cfg *configs.Config, fromSize bool) error {
 }
 
 // limitMemory sets the garbage collector's soft memory limit to need
-// bytes (the run's heap limit, run.HeapLimit), unless GOMEMLIMIT is set: the heap then
-// grows past its live size only up to what the run was expected to take,
-// instead of to twice its live size. A live heap above the limit only makes
+// bytes (the run's heap limit, run.HeapLimit), unless GOMEMLIMIT is set:
+// the heap then grows past its live size only up to what the run was
+// expected to take, instead of to twice its live size. A live heap above the limit only makes
 // the collector work harder; the run does not fail for it.
 func limitMemory(need float64) {
 	if os.Getenv("GOMEMLIMIT") != "" {
