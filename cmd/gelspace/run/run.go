@@ -91,12 +91,16 @@ func CheckMemory(cfg *configs.Config) error {
 // HeapLimit returns the soft memory limit, in bytes, that the command
 // sets for a run of an n³ box, with or without D/D0.
 func HeapLimit(n int, diffusivity bool) float64 {
-	per := float64(runBytesPerVoxel)
-	if diffusivity {
-		per = diffBytesPerVoxel
-	}
 	nf := float64(n)
-	return runFixedBytes + nf*nf*nf*per
+	return runFixedBytes + nf*nf*nf*heapPerVoxel(diffusivity)
+}
+
+// heapPerVoxel returns the heap limit's bytes per voxel.
+func heapPerVoxel(diffusivity bool) float64 {
+	if diffusivity {
+		return diffBytesPerVoxel
+	}
+	return runBytesPerVoxel
 }
 
 // MemoryNeed returns the resident memory, in bytes, that a run of an n³
@@ -114,11 +118,7 @@ func MemoryShortfall(n int, diffusivity bool) string {
 	if need <= avail {
 		return ""
 	}
-	per := float64(runBytesPerVoxel)
-	if diffusivity {
-		per = diffBytesPerVoxel
-	}
-	per += residentBytesPerVoxel
+	per := heapPerVoxel(diffusivity) + residentBytesPerVoxel
 	max := int(math.Cbrt(max(avail-runFixedBytes-residentFixedBytes, 0) / per))
 	return fmt.Sprintf("%d: a run of %d³ voxels needs about %.1f GB and %.1f GB is available: at most %d here%s", n, n, need/1e9, avail/1e9, max, DiffusivityHint(diffusivity))
 }
